@@ -1,0 +1,55 @@
+// Symbolizers turn records into symbols. They are called once per record (never per symbol),
+// and number symbols densely so hot paths count into arrays.
+#pragma once
+
+#include <cstdint>
+#include <memory>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "codedrift/alphabet.h"
+#include "codedrift/result.h"
+
+namespace codedrift {
+
+using SymbolId = uint32_t;
+
+struct TokenOptions {
+  std::string delimiters = " =,";
+  bool mask_digits = false;       // every ASCII digit becomes '0' before lookup
+  uint32_t max_distinct = 65536;  // distinct tokens kept; later new tokens share the overflow id
+};
+
+enum class FieldOrder { kBig, kLittle };
+enum class FieldTransform { kNone, kDelta, kXor };
+
+struct FieldOptions {
+  uint32_t offset_bits = 0;
+  int width_bits = 8;             // 1..32
+  FieldOrder order = FieldOrder::kBig;
+  FieldTransform transform = FieldTransform::kNone;  // against the previous record's value
+};
+
+// Turns records into dense symbol ids and ids back into keys. Stateful (blocks carry across
+// records, field deltas need the previous record): one instance per model. Not thread-safe.
+class Symbolizer {
+ public:
+  virtual ~Symbolizer() = default;
+  virtual const Alphabet& alphabet() const = 0;
+  // Appends the record's symbols to `out`. Returns the number of symbols appended.
+  virtual size_t Append(std::string_view record, std::vector<SymbolId>& out) = 0;
+  // Upper bound (exclusive) on ids handed out so far; counting arrays of this size suffice.
+  virtual SymbolId IdLimit() const = 0;
+  virtual SymbolKey KeyOf(SymbolId id) const = 0;
+  // Records too short for a field, etc. (counted by the caller as rejected).
+  virtual uint64_t skipped_records() const { return 0; }
+};
+
+// bytes (block 1: id = byte value), bytes blocks (id = big-endian packed n bytes; a partial
+// block at the end waits for the next record), tokens, field.
+std::unique_ptr<Symbolizer> MakeBytesSymbolizer(int block = 1);
+std::unique_ptr<Symbolizer> MakeTokenSymbolizer(const TokenOptions& options);
+std::unique_ptr<Symbolizer> MakeFieldSymbolizer(const FieldOptions& options);
+
+}  // namespace codedrift
