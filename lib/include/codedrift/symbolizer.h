@@ -26,7 +26,7 @@ enum class FieldTransform { kNone, kDelta, kXor };
 
 struct FieldOptions {
   uint32_t offset_bits = 0;
-  int width_bits = 8;             // 1..32
+  int width_bits = 8;  // 1..32
   FieldOrder order = FieldOrder::kBig;
   FieldTransform transform = FieldTransform::kNone;  // against the previous record's value
 };
@@ -48,6 +48,12 @@ class Symbolizer {
 
 // bytes (block 1: id = byte value), bytes blocks (id = big-endian packed n bytes; a partial
 // block at the end waits for the next record), tokens, field.
+// Ids: bytes block 1 and fields of width <= 16 use the value itself (IdLimit 256, 2^width);
+// byte blocks of 2..4 and wider fields number values densely in order of first appearance.
+// Tokens: id 0 is end of record (kEndOfRecordToken), id 1 the overflow symbol
+// (kOverflowToken), tokens from 2 on; a record's trailing "\n" or "\r\n" is not a token and a
+// newline inside a record always delimits. Options outside their documented range (block
+// not 1..4, width_bits not 1..32) give nullptr: validate configs before calling.
 std::unique_ptr<Symbolizer> MakeBytesSymbolizer(int block = 1);
 std::unique_ptr<Symbolizer> MakeTokenSymbolizer(const TokenOptions& options);
 std::unique_ptr<Symbolizer> MakeFieldSymbolizer(const FieldOptions& options);

@@ -1,0 +1,97 @@
+// The `bytes` symbolizer: single bytes (id = byte value) or n-byte blocks (dense interned ids).
+#include <memory>
+
+#include "codedrift/symbolizer.h"
+
+#include "value_interner.h"
+
+namespace codedrift {
+namespace {
+
+// Single bytes: the id is the byte itself, so the alphabet is fixed at 256 ids.
+class SingleByteSymbolizer final : public Symbolizer {
+ public:
+  const Alphabet& alphabet() const override { return alphabet_; }
+
+  size_t Append(std::string_view record, std::vector<SymbolId>& out) override {
+    const size_t start = out.size();
+    out.resize(start + record.size());
+    SymbolId* dst = out.data() + start;
+    for (const char c : record) *dst++ = static_cast<unsigned char>(c);
+    return record.size();
+  }
+
+  SymbolId IdLimit() const override { return 256; }
+  SymbolKey KeyOf(SymbolId id) const override { return SymbolKey(1, static_cast<char>(id)); }
+
+ private:
+  Alphabet alphabet_ = Alphabet::Bytes(1);
+};
+
+// Non-overlapping n-byte blocks of the byte stream formed by all records in order: a block
+// cut by the end of a record is completed by the next record's first bytes, so block
+// boundaries fall where a block code over the concatenated capture would put them.
+class BlockSymbolizer final : public Symbolizer {
+ public:
+  explicit BlockSymbolizer(int block) : alphabet_(Alphabet::Bytes(block)), block_(block) {}
+
+  const Alphabet& alphabet() const override { return alphabet_; }
+
+  size_t Append(std::string_view record, std::vector<SymbolId>& out) override {
+    const auto* p = reinterpret_cast<const unsigned char*>(record.data());
+    const auto* end = p + record.size();
+    const size_t before = out.size();
+    const auto block = static_cast<size_t>(block_);
+
+    // Finish the block the previous record left open.
+    while (pending_bytes_ > 0 && p != end) {
+      pending_ = (pending_ << 8) | *p++;
+      if (++pending_bytes_ == block_) {
+        out.push_back(interner_.Intern(pending_));
+        pending_ = 0;
+        pending_bytes_ = 0;
+      }
+    }
+    // Whole blocks, packed big-endian so the value reads like the key's hex form.
+    while (static_cast<size_t>(end - p) >= block) {
+      uint32_t value = 0;
+      for (size_t i = 0; i < block; ++i) value = (value << 8) | p[i];
+      out.push_back(interner_.Intern(value));
+      p += block;
+    }
+    // Keep the tail for the next record.
+    for (; p != end; ++p) {
+      pending_ = (pending_ << 8) | *p;
+      ++pending_bytes_;
+    }
+    return out.size() - before;
+  }
+
+  SymbolId IdLimit() const override { return interner_.size(); }
+
+  SymbolKey KeyOf(SymbolId id) const override {
+    const uint32_t value = interner_.ValueOf(id);
+    SymbolKey key(static_cast<size_t>(block_), '\0');
+    for (int i = block_ - 1, shift = 0; i >= 0; --i, shift += 8) {
+      key[static_cast<size_t>(i)] = static_cast<char>((value >> shift) & 0xff);
+    }
+    return key;
+  }
+
+ private:
+  Alphabet alphabet_;
+  int block_;
+  ValueInterner interner_;
+  uint32_t pending_ = 0;   // bytes of the open block, packed big-endian
+  int pending_bytes_ = 0;  // 0 .. block_ - 1
+};
+
+}  // namespace
+
+std::unique_ptr<Symbolizer> MakeBytesSymbolizer(int block) {
+  if (block == 1) return std::make_unique<SingleByteSymbolizer>();
+  if (block >= 2 && block <= 4) return std::make_unique<BlockSymbolizer>(block);
+  return nullptr;
+}
+
+}  // namespace codedrift
