@@ -1,0 +1,28 @@
+// Text helpers shared by the code-table reader and writer: YAML scalar quoting, number
+// formatting and did-you-mean suggestions. Private to the library.
+#pragma once
+
+#include <span>
+#include <string>
+#include <string_view>
+
+namespace codedrift::table_text {
+
+// A YAML double-quoted scalar that yaml-cpp reads back as exactly `text`: quote and backslash
+// escaped, control bytes as \n, \t, \r or \xNN, bytes >= 0x80 written raw (they pass through
+// yaml-cpp unchanged, so tokens that are not UTF-8 still round-trip).
+std::string DoubleQuoted(std::string_view text);
+
+// `text` as a plain scalar when that reads back unchanged, otherwise DoubleQuoted(text).
+std::string Scalar(std::string_view text);
+
+// The shortest decimal text that reads back as `value` ("1", "1.25", "0.9999999999999999").
+std::string ShortestDouble(double value);
+
+// Levenshtein distance (insertions, deletions, substitutions each cost 1).
+size_t EditDistance(std::string_view a, std::string_view b);
+
+// The closest of `known` to `word` when it is plausibly a typo of it, else empty.
+std::string_view ClosestWord(std::string_view word, std::span<const std::string_view> known);
+
+}  // namespace codedrift::table_text
