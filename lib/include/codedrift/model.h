@@ -1,0 +1,74 @@
+// Model: one symbolizer feeding one window, plus what the evaluator needs to read it.
+// Ingest runs on socket threads; Sample runs on the evaluation thread.
+#pragma once
+
+#include <cstdint>
+#include <memory>
+#include <mutex>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "codedrift/alphabet.h"
+#include "codedrift/clock.h"
+#include "codedrift/symbolizer.h"
+#include "codedrift/window.h"
+
+namespace codedrift {
+
+struct SymbolizerSpec {
+  AlphabetKind kind = AlphabetKind::kBytes;
+  int block = 1;          // bytes
+  TokenOptions tokens;    // tokens
+  FieldOptions field;     // field
+
+  Alphabet alphabet() const;
+  bool operator==(const SymbolizerSpec& other) const;
+};
+
+std::unique_ptr<Symbolizer> MakeSymbolizer(const SymbolizerSpec& spec);
+
+// What the evaluator reads of a model at one instant; owns copies, needs no lock.
+struct ModelSample {
+  Alphabet alphabet;
+  std::unique_ptr<Window> window;
+  std::vector<SymbolKey> keys;         // id -> key, for every id handed out so far
+  std::vector<uint64_t> cumulative;    // symbols ever seen, by id
+  uint64_t symbols_total = 0;
+  uint64_t records_total = 0;
+  uint64_t skipped_records = 0;        // records the symbolizer could not use (field too short)
+  std::chrono::nanoseconds taken_at{0};
+};
+
+// Thread-safe: Ingest may be called from any thread; Sample from another.
+class Model {
+ public:
+  Model(SymbolizerSpec symbolizer, WindowSpec window, const Clock& clock);
+
+  // Hot path: symbolize, count, push into the window. One lock per record.
+  void Ingest(std::string_view record);
+  // Copies the window and counters (brief lock; the counting happens later, unlocked).
+  ModelSample Sample();
+
+  const SymbolizerSpec& symbolizer_spec() const { return symbolizer_spec_; }
+  const WindowSpec& window_spec() const { return window_spec_; }
+  uint64_t window_memory_bytes();
+
+ private:
+  const SymbolizerSpec symbolizer_spec_;
+  const WindowSpec window_spec_;
+  const Clock& clock_;
+  const bool raw_bytes_;  // bytes with block 1: ids are the bytes themselves
+
+  std::mutex mutex_;  // guards everything below
+  std::unique_ptr<Symbolizer> symbolizer_;
+  std::unique_ptr<Window> window_;
+  std::vector<SymbolId> scratch_ids_;
+  std::vector<SymbolKey> keys_;
+  std::vector<uint64_t> cumulative_;  // by id (not raw bytes)
+  uint64_t byte_counts_[256] = {};     // raw bytes
+  uint64_t symbols_total_ = 0;
+  uint64_t records_total_ = 0;
+};
+
+}  // namespace codedrift
