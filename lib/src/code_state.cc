@@ -32,7 +32,7 @@ const char* CodeStateName(CodeState state) {
   return "?";
 }
 
-std::string CodeStateMachine::Explain(const Evaluation& e, const AlertRule& rule) {
+std::string CodeStateMachine::Explain(const Evaluation& e, const CodeStateRule& rule) {
   if (std::isnan(e.kraft_sum)) return "no deployed code table to measure";
   if (e.window_symbols < rule.min_symbols) {
     return "window holds " + std::to_string(e.window_symbols) + " of the " +

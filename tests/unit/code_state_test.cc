@@ -19,8 +19,8 @@ Evaluation WithSaving(double saving, double lower, uint64_t symbols = 1'000'000)
   return e;
 }
 
-AlertRule Rule() {
-  AlertRule rule;
+CodeStateRule Rule() {
+  CodeStateRule rule;
   rule.saving = 0.05;
   rule.hold = minutes(10);
   rule.min_symbols = 100000;
@@ -78,7 +78,7 @@ TEST(CodeStateMachine, SlowPaybackBlocksTheAlert) {
 }
 
 TEST(CodeStateMachine, ZeroHoldGoesStraightToStale) {
-  AlertRule rule = Rule();
+  CodeStateRule rule = Rule();
   rule.hold = seconds(0);
   CodeStateMachine machine(rule);
   auto change = machine.Update(WithSaving(0.08, 0.07), minutes(1));

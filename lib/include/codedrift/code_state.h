@@ -15,7 +15,7 @@ namespace codedrift {
 enum class CodeState { kFit = 0, kDrifting = 1, kStale = 2 };
 const char* CodeStateName(CodeState state);
 
-struct AlertRule {
+struct CodeStateRule {
   double saving = 0.05;                                  // threshold on the lower bound
   std::chrono::nanoseconds hold = std::chrono::minutes(10);  // `for`
   uint64_t min_symbols = 100000;
@@ -36,7 +36,7 @@ struct StateChange {
 
 class CodeStateMachine {
  public:
-  explicit CodeStateMachine(AlertRule rule) : rule_(rule) {}
+  explicit CodeStateMachine(CodeStateRule rule) : rule_(rule) {}
 
   // Feeds one evaluation; returns the change it caused, if any.
   std::optional<StateChange> Update(const Evaluation& evaluation, std::chrono::nanoseconds now);
@@ -47,11 +47,11 @@ class CodeStateMachine {
   std::chrono::nanoseconds entered_at() const { return entered_at_; }
   const std::string& reason() const { return reason_; }
   uint64_t alerts() const { return alerts_; }
-  const AlertRule& rule() const { return rule_; }
-  void set_rule(const AlertRule& rule) { rule_ = rule; }
+  const CodeStateRule& rule() const { return rule_; }
+  void set_rule(const CodeStateRule& rule) { rule_ = rule; }
 
   // Plain-words reason for an evaluation under a rule (also used when nothing changes).
-  static std::string Explain(const Evaluation& evaluation, const AlertRule& rule);
+  static std::string Explain(const Evaluation& evaluation, const CodeStateRule& rule);
 
   // Restores persisted state (checkpoints).
   void Restore(CodeState state, std::chrono::nanoseconds entered_at,
@@ -65,7 +65,7 @@ class CodeStateMachine {
   std::optional<StateChange> MoveTo(CodeState to, std::chrono::nanoseconds now, bool alert,
                                     std::string reason);
 
-  AlertRule rule_;
+  CodeStateRule rule_;
   CodeState state_ = CodeState::kFit;
   std::chrono::nanoseconds entered_at_{0};
   std::optional<std::chrono::nanoseconds> condition_since_;
