@@ -67,8 +67,10 @@ std::string UnknownKeyMessage(std::string_view where, std::string_view key,
   std::string message = "unknown key '" + std::string(key) + "'" + std::string(where);
   const std::string_view suggestion = table_text::ClosestWord(key, known);
   if (!suggestion.empty()) return message + " (did you mean '" + std::string(suggestion) + "'?)";
-  message += " (expected one of:";
-  for (std::string_view candidate : known) message += " " + std::string(candidate);
+  message += " (expected one of: ";
+  for (size_t i = 0; i < known.size(); ++i) {
+    message += (i == 0 ? "" : ", ") + std::string(known[i]);
+  }
   return message + ")";
 }
 
@@ -137,7 +139,9 @@ Result<std::vector<Entry>> TableParser::Entries(const YAML::Node& map, int line,
 Result<uint64_t> TableParser::Unsigned(const YAML::Node& node, int line, const std::string& what,
                                        uint64_t lo, uint64_t hi) const {
   const std::string range =
-      " must be an integer from " + std::to_string(lo) + " to " + std::to_string(hi);
+      hi == std::numeric_limits<uint64_t>::max()
+          ? " must be an integer >= " + std::to_string(lo)
+          : " must be an integer from " + std::to_string(lo) + " to " + std::to_string(hi);
   if (!node.IsScalar()) {
     return At(line, what + range + ", found " + std::string(NodeKindName(node)));
   }
@@ -393,7 +397,8 @@ Result<CodeTable> TableParser::Parse(const YAML::Node& root) {
   }
 
   const Entry& version = *find("table");
-  auto version_value = Unsigned(version.value, ValueLine(version), "table", 0, 1u << 30);
+  auto version_value =
+      Unsigned(version.value, ValueLine(version), "table", 1, std::numeric_limits<uint64_t>::max());
   if (!version_value.ok()) return version_value.error();
   if (version_value.value() != kFormatVersion) {
     return At(ValueLine(version),
