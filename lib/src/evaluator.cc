@@ -40,7 +40,7 @@ std::optional<double> CodedBits(const std::vector<uint64_t>& counts,
   return bits;
 }
 
-std::vector<std::optional<double>> CostVector(const CodeTable& table,
+std::vector<std::optional<double>> CostVector(const TableCosts& table,
                                               const std::vector<SymbolKey>& keys) {
   std::vector<std::optional<double>> cost(keys.size());
   for (size_t id = 0; id < keys.size(); ++id) cost[id] = table.CostBits(keys[id]);
@@ -119,11 +119,12 @@ Evaluation ModelEvaluator::Evaluate(const ModelSample& sample, const CodeTable* 
     e.deployed_mean_bits = fit.deployed_mean_bits;
     if (e.deployed_mean_bits) e.redundancy_bits = *e.deployed_mean_bits - e.entropy.plugin_bits;
 
+    const TableCosts deployed_costs(*table);
     // Unknown symbols that arrived since the last evaluation.
     uint64_t unknown_new = 0;
     for (size_t id = 0; id < sample.cumulative.size() && id < sample.keys.size(); ++id) {
       const uint64_t before = id < last_cumulative_.size() ? last_cumulative_[id] : 0;
-      if (sample.cumulative[id] > before && !table->Covers(sample.keys[id])) {
+      if (sample.cumulative[id] > before && !deployed_costs.Covers(sample.keys[id])) {
         unknown_new += sample.cumulative[id] - before;
       }
     }
@@ -139,10 +140,10 @@ Evaluation ModelEvaluator::Evaluate(const ModelSample& sample, const CodeTable* 
     if (older_n > 0 && newer_n > 0) {
       auto retrained =
           TrainPrefixTable(ToSymbolCounts(alphabet, sample.keys, older), max_length, literal_bits);
-      const auto deployed_cost = CostVector(*table, sample.keys);
+      const auto deployed_cost = CostVector(deployed_costs, sample.keys);
       const auto deployed_newer = CodedBits(newer, deployed_cost);
       if (retrained.ok() && deployed_newer && *deployed_newer > 0) {
-        const auto new_cost = CostVector(retrained.value(), sample.keys);
+        const auto new_cost = CostVector(TableCosts(retrained.value()), sample.keys);
         const double retrained_newer = CodedBits(newer, new_cost).value_or(0);
         const double l_dep = *deployed_newer / static_cast<double>(newer_n);
         e.retrained_mean_bits = retrained_newer / static_cast<double>(newer_n);
