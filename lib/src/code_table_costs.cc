@@ -11,11 +11,10 @@
 namespace codedrift {
 namespace {
 
-// Bits saved (positive) or lost by moving one count of quantized frequency from q to q + step
-// for a symbol seen `count` times: count * log2((q + step) / q).
-double Delta(uint64_t count, uint64_t q, int step) {
+// Bits saved by raising a quantized frequency from q to q + 1 for a symbol seen `count` times.
+double Saving(uint64_t count, uint64_t q) {
   return static_cast<double>(count) *
-         std::log2(static_cast<double>(q + step) / static_cast<double>(q));
+         std::log2(static_cast<double>(q + 1) / static_cast<double>(q));
 }
 
 }  // namespace
@@ -39,39 +38,30 @@ Result<std::vector<uint64_t>> QuantizeFrequencies(std::span<const uint64_t> coun
   }
   std::vector<uint64_t> q(counts.size(), 0);
   if (nonzero == 0) return q;
+  // Minimising sum c_i log2(T / q_i) over integers q_i >= 1 with sum T is a separable convex
+  // resource allocation, so handing out units one at a time to the largest marginal saving is
+  // optimal from any start that lies below an optimum (marginal analysis). The continuous
+  // optimum is q_i = max(1, c_i / mu) >= c_i (T - K) / total, and an integer optimum lies
+  // within one unit below it (Hochbaum 1994, proximity for resource allocation, from memory),
+  // so the start max(1, floor(c_i (T - K) / total)) qualifies and leaves at most 2K units.
+  const uint64_t spare = target - nonzero;
   uint64_t sum = 0;
   for (size_t i = 0; i < counts.size(); ++i) {
     if (counts[i] == 0) continue;
-    const auto scaled = static_cast<uint64_t>(Wide{counts[i]} * target / total);
+    const auto scaled = static_cast<uint64_t>(Wide{counts[i]} * spare / total);
     q[i] = scaled == 0 ? 1 : scaled;
     sum += q[i];
   }
-  // Flooring leaves at most one unit per symbol to hand out, and the lift to 1 at most one unit
-  // per symbol to take back, so the greedy fix-up below runs at most K steps, each the cheapest
-  // (in bits under `counts`) one available; the cost is convex in each q, so steps stay cheap.
-  // (bits saved by the step, index): the best step on top; a decrement saves a negative amount.
-  using Candidate = std::pair<double, size_t>;
+  using Candidate = std::pair<double, size_t>;  // (bits saved by one more unit, index)
   std::priority_queue<Candidate> heap;
-  if (sum < target) {
-    for (size_t i = 0; i < q.size(); ++i) {
-      if (q[i] > 0) heap.emplace(Delta(counts[i], q[i], 1), i);
-    }
-    for (; sum < target; ++sum) {
-      const size_t i = heap.top().second;
-      heap.pop();
-      ++q[i];
-      heap.emplace(Delta(counts[i], q[i], 1), i);
-    }
-  } else if (sum > target) {
-    for (size_t i = 0; i < q.size(); ++i) {
-      if (q[i] > 1) heap.emplace(Delta(counts[i], q[i], -1), i);
-    }
-    for (; sum > target; --sum) {
-      const size_t i = heap.top().second;
-      heap.pop();
-      --q[i];
-      if (q[i] > 1) heap.emplace(Delta(counts[i], q[i], -1), i);
-    }
+  for (size_t i = 0; i < q.size(); ++i) {
+    if (q[i] > 0) heap.emplace(Saving(counts[i], q[i]), i);
+  }
+  for (; sum < target; ++sum) {
+    const size_t i = heap.top().second;
+    heap.pop();
+    ++q[i];
+    heap.emplace(Saving(counts[i], q[i]), i);
   }
   return q;
 }

@@ -85,9 +85,10 @@ class TableCosts {
 };
 
 // Scales counts to a total of exactly 2^precision_bits (1..32) the way a range coder's static
-// model would: every nonzero count keeps a frequency >= 1, zeros stay 0, and the rounding is
-// chosen greedily to cost the fewest bits under the given counts. Error when the nonzero
-// counts outnumber 2^precision_bits.
+// model would: every nonzero count keeps a frequency >= 1, zeros stay 0, and among such
+// models it picks one that costs the fewest bits on the counts themselves (counts that already
+// total 2^precision_bits come back unchanged). O(K log K). Error when the nonzero counts
+// outnumber 2^precision_bits.
 Result<std::vector<uint64_t>> QuantizeFrequencies(std::span<const uint64_t> counts,
                                                   int precision_bits);
 
