@@ -25,10 +25,6 @@ class TokenSymbolizer final : public Symbolizer {
     // Tokens never contain a newline (alphabet.h reserves "\n" for end of record), so a
     // newline inside a record always separates tokens.
     is_delimiter_['\n'] = 1;
-    for (int c = 0; c < 256; ++c) {
-      masked_[static_cast<size_t>(c)] =
-          static_cast<char>(mask_digits_ && c >= '0' && c <= '9' ? '0' : c);
-    }
   }
 
   const Alphabet& alphabet() const override { return alphabet_; }
@@ -63,14 +59,8 @@ class TokenSymbolizer final : public Symbolizer {
 
  private:
   SymbolId Lookup(const char* token, size_t length) {
-    if (mask_digits_) {
-      scratch_.resize(length);
-      for (size_t i = 0; i < length; ++i) {
-        scratch_[i] = masked_[static_cast<unsigned char>(token[i])];
-      }
-      token = scratch_.data();
-    }
-    const uint32_t id = table_.Intern(token, length, max_distinct_);
+    const uint32_t id = mask_digits_ ? table_.Intern<true>(token, length, max_distinct_)
+                                     : table_.Intern<false>(token, length, max_distinct_);
     return id == TokenTable::kNotFound ? kOverflowId : id;
   }
 
@@ -78,8 +68,6 @@ class TokenSymbolizer final : public Symbolizer {
   bool mask_digits_;
   uint32_t max_distinct_;
   std::array<unsigned char, 256> is_delimiter_;
-  std::array<char, 256> masked_;
-  std::string scratch_;  // the masked copy of the current token
   TokenTable table_;
 };
 

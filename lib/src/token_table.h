@@ -13,61 +13,118 @@ namespace codedrift {
 
 // Owns its slots and arena; not thread-safe. Ids start at `first_id`, so a caller can keep
 // low ids for reserved symbols.
+//
+// With kMaskDigits, every ASCII digit of the looked-up text reads as '0'. The masking is done
+// on 8-byte words in registers while hashing and comparing: writing a masked copy byte by byte
+// and reading it back as words stalls on store-to-load forwarding and cost more than the rest
+// of the lookup together.
 class TokenTable {
  public:
   static constexpr uint32_t kNotFound = UINT32_MAX;
 
   explicit TokenTable(uint32_t first_id) : first_id_(first_id) { Rehash(kInitialCapacity); }
 
-  // The id of `token`; when the token is new, assigns the next id if fewer than `limit` tokens
-  // are stored, and otherwise returns kNotFound without storing it.
+  // The id of `token` (masked first if kMaskDigits); when it is new, assigns the next id if
+  // fewer than `limit` tokens are stored, and otherwise returns kNotFound without storing it.
+  template <bool kMaskDigits>
   uint32_t Intern(const char* token, size_t length, uint32_t limit) {
-    const uint64_t hash = Hash(token, length);
+    const uint64_t hash = Hash<kMaskDigits>(token, length);
     const auto tag = static_cast<uint32_t>(hash >> 32);
     size_t slot = hash & mask_;
     while (true) {
       const Slot& s = slots_[slot];
       if (s.index == kEmpty) break;
-      if (s.tag == tag && lengths_[s.index] == length &&
-          std::memcmp(arena_.data() + offsets_[s.index], token, length) == 0) {
+      if (s.tag == tag && keys_[s.index].length == length &&
+          Equal<kMaskDigits>(arena_.data() + keys_[s.index].offset, token, length)) {
         return first_id_ + s.index;
       }
       slot = (slot + 1) & mask_;
     }
     if (size() >= limit) return kNotFound;
-    const auto index = static_cast<uint32_t>(offsets_.size());
+    const auto index = static_cast<uint32_t>(keys_.size());
     slots_[slot] = Slot{tag, index};
-    offsets_.push_back(arena_.size());
-    lengths_.push_back(static_cast<uint32_t>(length));
-    arena_.append(token, length);
-    if (2 * offsets_.size() > slots_.size()) Rehash(2 * slots_.size());
+    keys_.push_back(Key{arena_.size(), static_cast<uint32_t>(length)});
+    for (size_t i = 0; i < length; ++i) {
+      const char c = token[i];
+      arena_ += kMaskDigits && c >= '0' && c <= '9' ? '0' : c;
+    }
+    if (2 * keys_.size() > slots_.size()) Rehash(2 * slots_.size());
     return first_id_ + index;
   }
 
   // Tokens stored so far.
-  uint32_t size() const { return static_cast<uint32_t>(offsets_.size()); }
+  uint32_t size() const { return static_cast<uint32_t>(keys_.size()); }
   // Text of an id handed out before.
   std::string_view TextOf(uint32_t id) const {
-    const uint32_t index = id - first_id_;
-    return std::string_view(arena_.data() + offsets_[index], lengths_[index]);
+    const Key& key = keys_[id - first_id_];
+    return std::string_view(arena_.data() + key.offset, key.length);
+  }
+
+ private:
+  static constexpr uint32_t kEmpty = UINT32_MAX;
+  static constexpr size_t kInitialCapacity = 1024;
+  static constexpr uint64_t kOnes = 0x0101010101010101ull;
+
+  struct Slot {
+    uint32_t tag = 0;         // high hash bits: most mismatches fail here, before comparing
+    uint32_t index = kEmpty;  // into keys_
+  };
+  struct Key {
+    size_t offset;  // in arena_
+    uint32_t length;
+  };
+
+  // Each byte 0x30..0x39 ('0'..'9') becomes 0x30; other bytes are unchanged. Exact per byte:
+  // no step carries into the neighbouring byte.
+  static uint64_t MaskDigits(uint64_t x) {
+    const uint64_t high = (x & (0xF0 * kOnes)) ^ (0x30 * kOnes);  // 0 where high nibble is 3
+    const uint64_t high_nonzero =
+        (((high & (0x7F * kOnes)) + 0x7F * kOnes) | high) & (0x80 * kOnes);
+    const uint64_t low_over_9 = ((x & (0x0F * kOnes)) + 0x76 * kOnes) & (0x80 * kOnes);
+    const uint64_t digit = ~(high_nonzero | low_over_9) & (0x80 * kOnes);
+    return x & ~((digit >> 7) * 0x0F);  // clear the low nibble of digit bytes
+  }
+
+  template <bool kMaskDigits>
+  static uint64_t Load64(const char* p) {
+    uint64_t v;
+    std::memcpy(&v, p, 8);
+    return kMaskDigits ? MaskDigits(v) : v;
+  }
+  template <bool kMaskDigits>
+  static uint64_t Load32(const char* p) {
+    uint32_t v;
+    std::memcpy(&v, p, 4);
+    return kMaskDigits ? MaskDigits(v) : v;
+  }
+  // 1..3 bytes: first, middle and last byte (together they cover every byte).
+  template <bool kMaskDigits>
+  static uint64_t LoadShort(const char* p, size_t length) {
+    const auto* u = reinterpret_cast<const unsigned char*>(p);
+    const uint64_t v = uint64_t{u[0]} << 16 | uint64_t{u[length / 2]} << 8 | u[length - 1];
+    return kMaskDigits ? MaskDigits(v) : v;
   }
 
   // 64-bit multiply-mix over 8-byte words: a few cycles per word, and the final fold lets
-  // both the low bits (slot) and the high bits (tag) depend on every input byte.
+  // both the low bits (slot) and the high bits (tag) depend on every input byte. Partial words
+  // are read with overlapping loads rather than a variable-length memcpy (a libc call per
+  // token otherwise dominates short tokens).
+  template <bool kMaskDigits>
   static uint64_t Hash(const char* data, size_t length) {
     constexpr uint64_t kMul = 0x9E3779B97F4A7C15ull;
-    uint64_t h = length * 0xC2B2AE3D27D4EB4Full;
-    size_t i = 0;
-    for (; i + 8 <= length; i += 8) {
-      uint64_t word;
-      std::memcpy(&word, data + i, 8);
-      h = (h ^ word) * kMul;
-      h ^= h >> 32;
-    }
-    if (i < length) {
-      uint64_t word = 0;
-      std::memcpy(&word, data + i, length - i);
-      h = (h ^ word) * kMul;
+    uint64_t h = (length + 1) * 0xC2B2AE3D27D4EB4Full;
+    if (length >= 8) {
+      size_t i = 0;
+      for (; i + 8 < length; i += 8) {
+        h = (h ^ Load64<kMaskDigits>(data + i)) * kMul;
+        h ^= h >> 32;
+      }
+      // The last 8 bytes, overlapping the previous word if need be.
+      h = (h ^ Load64<kMaskDigits>(data + length - 8)) * kMul;
+    } else if (length >= 4) {
+      h = (h ^ (Load32<kMaskDigits>(data) << 32 | Load32<kMaskDigits>(data + length - 4))) * kMul;
+    } else if (length > 0) {
+      h = (h ^ LoadShort<kMaskDigits>(data, length)) * kMul;
     }
     h ^= h >> 29;
     h *= 0xBF58476D1CE4E5B9ull;
@@ -75,20 +132,29 @@ class TokenTable {
     return h;
   }
 
- private:
-  static constexpr uint32_t kEmpty = UINT32_MAX;
-  static constexpr size_t kInitialCapacity = 1024;
-
-  struct Slot {
-    uint32_t tag = 0;         // high hash bits: most mismatches fail here, before memcmp
-    uint32_t index = kEmpty;  // into offsets_/lengths_
-  };
+  // Stored (already masked) text against looked-up text of the same length, with the loads
+  // Hash uses.
+  template <bool kMaskDigits>
+  static bool Equal(const char* stored, const char* text, size_t length) {
+    if (length >= 8) {
+      for (size_t i = 0; i + 8 < length; i += 8) {
+        if (Load64<false>(stored + i) != Load64<kMaskDigits>(text + i)) return false;
+      }
+      return Load64<false>(stored + length - 8) == Load64<kMaskDigits>(text + length - 8);
+    }
+    if (length >= 4) {
+      return Load32<false>(stored) == Load32<kMaskDigits>(text) &&
+             Load32<false>(stored + length - 4) == Load32<kMaskDigits>(text + length - 4);
+    }
+    return length == 0 || LoadShort<false>(stored, length) == LoadShort<kMaskDigits>(text, length);
+  }
 
   void Rehash(size_t capacity) {
     slots_.assign(capacity, Slot{});
     mask_ = capacity - 1;
-    for (uint32_t index = 0; index < offsets_.size(); ++index) {
-      const uint64_t hash = Hash(arena_.data() + offsets_[index], lengths_[index]);
+    for (uint32_t index = 0; index < keys_.size(); ++index) {
+      // Stored text is already masked, so hashing it unmasked gives the same value.
+      const uint64_t hash = Hash<false>(arena_.data() + keys_[index].offset, keys_[index].length);
       size_t slot = hash & mask_;
       while (slots_[slot].index != kEmpty) slot = (slot + 1) & mask_;
       slots_[slot] = Slot{static_cast<uint32_t>(hash >> 32), index};
@@ -98,9 +164,8 @@ class TokenTable {
   uint32_t first_id_;
   std::vector<Slot> slots_;
   size_t mask_ = 0;
-  std::string arena_;              // every stored token, back to back
-  std::vector<size_t> offsets_;    // index -> start in arena_
-  std::vector<uint32_t> lengths_;  // index -> length
+  std::string arena_;      // every stored token, back to back
+  std::vector<Key> keys_;  // index -> where its text is
 };
 
 }  // namespace codedrift

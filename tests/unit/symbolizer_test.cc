@@ -1,6 +1,7 @@
 #include "codedrift/symbolizer.h"
 
 #include <cmath>
+#include <map>
 #include <random>
 #include <string>
 #include <vector>
@@ -192,6 +193,34 @@ TEST(TokenSymbolizer, MasksDigitsWhenAsked) {
   Ids unmasked;
   plain->Append("batt=3.71 batt=4.05", unmasked);
   EXPECT_NE(unmasked[1], unmasked[3]);
+}
+
+TEST(TokenSymbolizer, MaskingTouchesExactlyTheAsciiDigitsAtEveryLength) {
+  // Property (invented seeded data): for tokens of every length 1..24 over bytes chosen to sit
+  // next to the digit range ('/', ':', 0xb0..0xb9, 0x00, 0xff), the stored key is the token
+  // with '0'..'9' replaced by '0' and nothing else changed, and tokens that mask alike share
+  // one id.
+  TokenOptions options;
+  options.mask_digits = true;
+  options.delimiters = " ";
+  auto symbolizer = MakeTokenSymbolizer(options);
+  std::mt19937_64 rng(31337);
+  const std::string kBytes = std::string("0123456789/:Aa") + Bytes({0xb0, 0xb5, 0xb9, 0x00, 0xff});
+  std::map<std::string, SymbolId> id_of_masked;
+  for (int round = 0; round < 2000; ++round) {
+    const size_t length = 1 + static_cast<size_t>(round % 24);
+    std::string token;
+    for (size_t i = 0; i < length; ++i) token += kBytes[rng() % kBytes.size()];
+    std::string masked = token;
+    for (char& c : masked) {
+      if (c >= '0' && c <= '9') c = '0';
+    }
+    Ids ids;
+    ASSERT_EQ(symbolizer->Append(token, ids), 2u);
+    ASSERT_EQ(symbolizer->KeyOf(ids[0]), masked) << "round " << round;
+    const auto [it, inserted] = id_of_masked.emplace(masked, ids[0]);
+    EXPECT_EQ(it->second, ids[0]) << "round " << round;
+  }
 }
 
 TEST(TokenSymbolizer, TokensBeyondMaxDistinctShareTheOverflowId) {
