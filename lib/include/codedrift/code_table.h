@@ -54,7 +54,8 @@ struct CodeTable {
   std::map<std::string, std::string> metadata;  // proposals: created, symbols, saving, ...
 
   // Cost in bits of one occurrence of `key`, the escape and literal included when the table
-  // does not cover it; nullopt when uncovered and there is no escape.
+  // does not cover it; nullopt when uncovered and there is no escape. A frequencies table
+  // rebuilds its model on every call (O(K log K)); cost many symbols through TableCosts.
   std::optional<double> CostBits(const SymbolKey& key) const;
   bool Covers(const SymbolKey& key) const;
   // True when every symbol the alphabet can produce is codable: an escape is present, or the
