@@ -1,0 +1,67 @@
+#include "cli_common.h"
+
+#include <iostream>
+
+namespace codedrift::cli {
+
+void PrintError(const std::string& command, const std::string& message) {
+  std::cerr << "codedrift " << command << ": " << message << '\n';
+}
+
+void PrintWarning(const std::string& command, const std::string& message) {
+  std::cerr << "codedrift " << command << ": warning: " << message << '\n';
+}
+
+void AddSymbolFlags(CLI::App& command, SymbolFlags& flags) {
+  command.add_option("--symbols", flags.symbols, "Symbols: bytes (default) or tokens")
+      ->check(CLI::IsMember({"bytes", "tokens"}));
+  command
+      .add_option("--block", flags.block,
+                  "bytes: count n-byte blocks as symbols (1..4), taken back to back from the "
+                  "start of the stream")
+      ->check(CLI::Range(1, 4));
+  command.add_option("--delimiters", flags.delimiters,
+                     "tokens: characters that separate tokens (newline always does)");
+  command.add_flag("--mask-digits", flags.mask_digits,
+                   "tokens: map every ASCII digit to 0 before counting");
+  command
+      .add_option("--max-distinct", flags.max_distinct,
+                  "tokens: distinct tokens kept; later new tokens share the overflow symbol \"\"")
+      ->check(CLI::Range(1u, 1u << 30));
+}
+
+Result<SymbolSource> ResolveSymbolSource(const SymbolFlags& flags, const CodeTable* table) {
+  SymbolSource source;
+  source.tokens.delimiters = flags.delimiters;
+  source.tokens.mask_digits = flags.mask_digits;
+  source.tokens.max_distinct = flags.max_distinct;
+  if (table != nullptr && table->alphabet.kind == AlphabetKind::kField) {
+    return Error{"the table's alphabet is " + table->alphabet.ToString() +
+                 "; the CLI reads bytes or tokens only (fields are the daemon's)"};
+  }
+  std::string symbols = flags.symbols;
+  if (symbols.empty()) {
+    symbols =
+        table != nullptr && table->alphabet.kind == AlphabetKind::kTokens ? "tokens" : "bytes";
+  }
+  if (symbols == "tokens") {
+    if (flags.block > 1) return Error{"--block applies to bytes only"};
+    source.alphabet = Alphabet::Tokens();
+  } else {
+    int block = flags.block;
+    if (block == 0) block = table != nullptr ? table->alphabet.block : 1;
+    source.alphabet = Alphabet::Bytes(block);
+  }
+  if (table != nullptr && !(table->alphabet == source.alphabet)) {
+    return Error{"the table codes " + table->alphabet.ToString() + " symbols but the stream is " +
+                 source.alphabet.ToString() +
+                 " (leave out --symbols and --block to follow the table)"};
+  }
+  return source;
+}
+
+std::string DumpJson(const nlohmann::ordered_json& value) {
+  return value.dump(2, ' ', false, nlohmann::ordered_json::error_handler_t::replace) + "\n";
+}
+
+}  // namespace codedrift::cli

@@ -1,0 +1,30 @@
+// `inspect --svg`: a self-contained SVG chart of each symbol's probability (log scale) against
+// its codeword length, with the ideal length -log2 p drawn as a line, so over- and under-long
+// codewords stand out.
+#pragma once
+
+#include <string>
+#include <vector>
+
+namespace codedrift::cli {
+
+struct ChartPoint {
+  double probability = 0;  // > 0
+  double length_bits = 0;
+  bool escaped = false;  // the code does not cover it: escape + literal
+  std::string label;     // shown as the point's tooltip
+};
+
+// Plain description of one chart.
+struct LengthChart {
+  std::string title;
+  std::string length_caption;  // e.g. "deployed codeword length (bits)"
+  std::vector<ChartPoint> points;
+};
+
+// At most this many points are drawn (the most probable ones); the chart says when it cut.
+inline constexpr size_t kMaxChartPoints = 4096;
+
+std::string RenderLengthChart(const LengthChart& chart);
+
+}  // namespace codedrift::cli

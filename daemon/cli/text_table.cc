@@ -1,0 +1,79 @@
+#include "text_table.h"
+
+#include <algorithm>
+#include <cstdio>
+
+namespace codedrift::cli {
+
+void TextTable::AddRow(std::vector<std::string> cells) { rows_.push_back(std::move(cells)); }
+
+std::string TextTable::Render() const {
+  std::vector<size_t> widths(columns_.size(), 0);
+  for (const auto& row : rows_) {
+    for (size_t c = 0; c < row.size() && c < widths.size(); ++c) {
+      widths[c] = std::max(widths[c], row[c].size());
+    }
+  }
+  std::string out;
+  for (const auto& row : rows_) {
+    std::string line;
+    for (size_t c = 0; c < widths.size(); ++c) {
+      const std::string cell = c < row.size() ? row[c] : "";
+      const std::string pad(widths[c] - std::min(widths[c], cell.size()), ' ');
+      if (c > 0) line += "  ";
+      line += columns_[c] == Align::kRight ? pad + cell : cell + pad;
+    }
+    line.erase(line.find_last_not_of(' ') + 1);
+    out += line;
+    out += '\n';
+  }
+  return out;
+}
+
+std::string FormatNumber(double value, int decimals) {
+  char buffer[64];
+  std::snprintf(buffer, sizeof buffer, "%.*f", decimals, value);
+  std::string text = buffer;
+  if (text.find('.') != std::string::npos) {
+    text.erase(text.find_last_not_of('0') + 1);
+    if (text.back() == '.') text.pop_back();
+  }
+  if (text == "-0") text = "0";
+  return text;
+}
+
+std::string DisplayKey(const Alphabet& alphabet, const SymbolKey& key) {
+  if (alphabet.kind != AlphabetKind::kTokens) return alphabet.FormatKey(key);
+  std::string out = "\"";
+  for (const unsigned char c : key) {
+    switch (c) {
+      case '\n':
+        out += "\\n";
+        break;
+      case '\t':
+        out += "\\t";
+        break;
+      case '\r':
+        out += "\\r";
+        break;
+      case '"':
+        out += "\\\"";
+        break;
+      case '\\':
+        out += "\\\\";
+        break;
+      default:
+        if (c < 0x20 || c == 0x7f) {
+          char hex[8];
+          std::snprintf(hex, sizeof hex, "\\x%02x", c);
+          out += hex;
+        } else {
+          out += static_cast<char>(c);
+        }
+    }
+  }
+  out += '"';
+  return out;
+}
+
+}  // namespace codedrift::cli
