@@ -8,20 +8,61 @@
 namespace codedrift {
 namespace internal {
 
-SortedWeights SortNonzeroWeights(std::span<const uint64_t> weights) {
-  std::vector<std::pair<uint64_t, uint32_t>> pairs;
-  pairs.reserve(weights.size());
-  for (size_t i = 0; i < weights.size(); ++i) {
-    if (weights[i] != 0) pairs.emplace_back(weights[i], static_cast<uint32_t>(i));
+namespace {
+
+// Below this many symbols a comparison sort beats clearing radix histograms.
+constexpr size_t kRadixSortMinSize = 2048;
+
+// Stable LSD radix sort by key, 11 bits per pass; digits that every key shares are skipped,
+// so typical counts (well under 2^44) take four passes or fewer. Stability keeps equal keys in
+// their incoming (ascending symbol) order.
+void RadixSortByKey(std::vector<uint64_t>& keys, std::vector<uint32_t>& symbols) {
+  constexpr int kDigitBits = 11;
+  constexpr uint64_t kDigitMask = (uint64_t{1} << kDigitBits) - 1;
+  const size_t n = keys.size();
+  std::vector<uint64_t> keys_out(n);
+  std::vector<uint32_t> symbols_out(n);
+  std::vector<uint32_t> start(kDigitMask + 1);
+  uint64_t any_bits = 0;
+  for (uint64_t key : keys) any_bits |= key;
+  for (int shift = 0; shift < 64 && (any_bits >> shift) != 0; shift += kDigitBits) {
+    std::fill(start.begin(), start.end(), 0);
+    for (uint64_t key : keys) ++start[(key >> shift) & kDigitMask];
+    if (start[(keys[0] >> shift) & kDigitMask] == n) continue;  // one digit value: no change
+    uint32_t position = 0;
+    for (uint32_t& bucket : start) position += std::exchange(bucket, position);
+    for (size_t i = 0; i < n; ++i) {
+      const uint32_t at = start[(keys[i] >> shift) & kDigitMask]++;
+      keys_out[at] = keys[i];
+      symbols_out[at] = symbols[i];
+    }
+    keys.swap(keys_out);
+    symbols.swap(symbols_out);
   }
-  // Pairs compare by weight, then by index: a deterministic order for equal weights.
-  std::sort(pairs.begin(), pairs.end());
+}
+
+}  // namespace
+
+SortedWeights SortNonzeroWeights(std::span<const uint64_t> weights) {
   SortedWeights sorted;
-  sorted.weights.reserve(pairs.size());
-  sorted.symbols.reserve(pairs.size());
-  for (const auto& [weight, symbol] : pairs) {
-    sorted.weights.push_back(weight);
-    sorted.symbols.push_back(symbol);
+  sorted.weights.reserve(weights.size());
+  sorted.symbols.reserve(weights.size());
+  for (size_t i = 0; i < weights.size(); ++i) {
+    if (weights[i] == 0) continue;
+    sorted.weights.push_back(weights[i]);
+    sorted.symbols.push_back(static_cast<uint32_t>(i));
+  }
+  if (sorted.weights.size() >= kRadixSortMinSize) {
+    RadixSortByKey(sorted.weights, sorted.symbols);
+    return sorted;
+  }
+  // Pairs compare by weight, then by index: the same order the stable radix sort gives.
+  std::vector<std::pair<uint64_t, uint32_t>> pairs(sorted.weights.size());
+  for (size_t i = 0; i < pairs.size(); ++i) pairs[i] = {sorted.weights[i], sorted.symbols[i]};
+  std::sort(pairs.begin(), pairs.end());
+  for (size_t i = 0; i < pairs.size(); ++i) {
+    sorted.weights[i] = pairs[i].first;
+    sorted.symbols[i] = pairs[i].second;
   }
   return sorted;
 }

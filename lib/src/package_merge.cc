@@ -3,6 +3,7 @@
 // and numismatic value its weight; an optimal code is the cheapest set of coins worth n - 1,
 // and a symbol's length is the number of its coins in that set.
 #include <algorithm>
+#include <bit>
 #include <cstdint>
 #include <limits>
 #include <string>
@@ -24,7 +25,7 @@ constexpr uint64_t kSentinel = std::numeric_limits<uint64_t>::max();
 //
 // Forward pass, deepest depth first: the list at depth L is the leaves; the list at depth d is
 // the leaves merged with the pairs ("packages") of the list at depth d + 1. Only one bit per
-// list entry is kept (leaf or package), so memory is O(n L) bytes, with no per-package nodes.
+// list entry is kept (leaf or package), so memory is O(n L) bits, with no per-package nodes.
 // Backward pass: take the 2n - 2 cheapest entries at depth 1; the packages among them expand
 // to twice as many entries at the next depth, and so on. The leaves taken at each depth are a
 // prefix of the sorted leaves (leaves enter every list in order), so a symbol's length is the
@@ -38,9 +39,9 @@ std::vector<int> PackageMergeDepths(std::span<const uint64_t> weights, int max_l
   below.reserve(2 * n + 1);
   current.reserve(2 * n + 1);
 
-  std::vector<uint8_t> is_package;  // all lists for depths 1..L-1, concatenated
-  is_package.reserve(2 * n * static_cast<size_t>(max_length));
-  std::vector<size_t> list_start(max_length + 1, 0);
+  std::vector<uint64_t> is_package;  // one bit per entry; each depth's list starts a new word
+  is_package.reserve((2 * n / 64 + 1) * static_cast<size_t>(max_length));
+  std::vector<size_t> list_start(max_length + 1, 0);  // first word of each depth's list
   for (int depth = max_length - 1; depth >= 1; --depth) {
     // Pair up the list below in place (entry k reads entries 2k and 2k + 1 >= k).
     const size_t packages = below.size() / 2;
@@ -51,30 +52,38 @@ std::vector<int> PackageMergeDepths(std::span<const uint64_t> weights, int max_l
     const size_t size = n + packages;
     current.resize(size);
     list_start[depth] = is_package.size();
-    is_package.resize(is_package.size() + size);
-    uint8_t* flags = is_package.data() + list_start[depth];
     size_t leaf = 0;
     size_t package = 0;
+    uint64_t word = 0;
     for (size_t out = 0; out < size; ++out) {
       // Branch-free merge; a leaf wins a tie, and the sentinels stop either run.
       const uint64_t leaf_weight = leaves[leaf];
       const uint64_t package_weight = below[package];
       const bool take_leaf = leaf_weight <= package_weight;
       current[out] = take_leaf ? leaf_weight : package_weight;
-      flags[out] = static_cast<uint8_t>(!take_leaf);
+      word |= static_cast<uint64_t>(!take_leaf) << (out % 64);
+      if (out % 64 == 63) {
+        is_package.push_back(word);
+        word = 0;
+      }
       leaf += take_leaf;
       package += !take_leaf;
     }
+    if (size % 64 != 0) is_package.push_back(word);
     std::swap(below, current);
   }
 
-  // diff[i] - diff[i - 1] style counting: each depth adds one to the taken leaf prefix.
+  // Each depth adds one to the length of every leaf in its taken prefix: mark the prefix ends
+  // here, and sum them up below.
   std::vector<int> covered(n + 1, 0);
   size_t taken = 2 * n - 2;
   for (int depth = 1; depth < max_length; ++depth) {
-    const uint8_t* flags = is_package.data() + list_start[depth];
+    const uint64_t* bits = is_package.data() + list_start[depth];
     size_t packages = 0;
-    for (size_t i = 0; i < taken; ++i) packages += flags[i];
+    for (size_t w = 0; w < taken / 64; ++w) packages += std::popcount(bits[w]);
+    if (taken % 64 != 0) {
+      packages += std::popcount(bits[taken / 64] & ((uint64_t{1} << (taken % 64)) - 1));
+    }
     ++covered[0];
     --covered[taken - packages];
     taken = 2 * packages;

@@ -6,6 +6,7 @@
 #include <functional>
 #include <queue>
 #include <random>
+#include <utility>
 #include <vector>
 
 #include <gtest/gtest.h>
@@ -70,6 +71,41 @@ uint64_t BruteForceLimitedCost(const std::vector<uint64_t>& weights, int limit) 
     ++lengths[i];
   }
   return best;
+}
+
+// Package-merge exactly as Larmore & Hirschberg (J. ACM 37(3), 1990) state it, written for
+// clarity, not speed: every item carries the multiset of symbols it contains; the 2n - 2
+// cheapest items of the depth-1 list form the solution, and a symbol's length is how often it
+// occurs in them. O(n^2 L), so only for small alphabets.
+uint64_t TextbookPackageMergeCost(const std::vector<uint64_t>& weights, int limit) {
+  struct Item {
+    uint64_t weight;
+    std::vector<int> symbols;
+  };
+  std::vector<Item> leaves;
+  for (size_t s = 0; s < weights.size(); ++s) {
+    if (weights[s] != 0) leaves.push_back({weights[s], {static_cast<int>(s)}});
+  }
+  std::stable_sort(leaves.begin(), leaves.end(),
+                   [](const Item& a, const Item& b) { return a.weight < b.weight; });
+  std::vector<Item> list = leaves;  // depth `limit`
+  for (int depth = limit - 1; depth >= 1; --depth) {
+    std::vector<Item> merged = leaves;
+    for (size_t k = 0; k + 1 < list.size(); k += 2) {
+      Item package{list[k].weight + list[k + 1].weight, list[k].symbols};
+      package.symbols.insert(package.symbols.end(), list[k + 1].symbols.begin(),
+                             list[k + 1].symbols.end());
+      merged.push_back(std::move(package));
+    }
+    std::stable_sort(merged.begin(), merged.end(),
+                     [](const Item& a, const Item& b) { return a.weight < b.weight; });
+    list = std::move(merged);
+  }
+  std::vector<int> lengths(weights.size(), 0);
+  for (size_t i = 0; i < 2 * leaves.size() - 2; ++i) {
+    for (int symbol : list[i].symbols) ++lengths[symbol];
+  }
+  return CodeCostBits(weights, lengths);
 }
 
 int MaxLength(const std::vector<int>& lengths) {
@@ -248,6 +284,42 @@ TEST(LimitedHuffmanProperty, MatchesBruteForceOnSmallAlphabets) {
     }
   }
   EXPECT_GT(binding, 0);
+}
+
+TEST(LimitedHuffmanProperty, MatchesTextbookPackageMerge) {
+  std::mt19937_64 rng(1990);
+  int binding = 0;
+  for (int trial = 0; trial < 60; ++trial) {
+    const size_t k = 7 + rng() % 40;
+    const std::vector<uint64_t> weights = RandomWeights(rng, k, trial % 2 ? 30 : 5);
+    const int min_limit = static_cast<int>(std::ceil(std::log2(static_cast<double>(k))));
+    for (int limit = min_limit; limit <= min_limit + 6; ++limit) {
+      auto lengths = LimitedHuffmanLengths(weights, limit);
+      ASSERT_TRUE(lengths.ok());
+      const uint64_t expected = TextbookPackageMergeCost(weights, limit);
+      EXPECT_EQ(CodeCostBits(weights, lengths.value()), expected)
+          << "trial " << trial << " limit " << limit;
+      if (expected > ReferenceHuffmanCost(weights)) ++binding;
+    }
+  }
+  EXPECT_GT(binding, 50);
+}
+
+TEST(HuffmanProperty, LargeAlphabetsMatchTheHeapReference) {
+  // Large alphabets take the radix-sorted path; many equal weights test its tie order.
+  std::mt19937_64 rng(2048);
+  for (size_t k : {2047, 2048, 5000, 65536}) {
+    for (int spread : {2, 12}) {  // 12 octaves keep every length within 32 bits
+      const std::vector<uint64_t> weights = RandomWeights(rng, k, spread);
+      const std::vector<int> lengths = HuffmanLengths(weights);
+      ASSERT_LE(MaxLength(lengths), kMaxCodeLength);
+      EXPECT_EQ(CodeCostBits(weights, lengths), ReferenceHuffmanCost(weights)) << k;
+      EXPECT_TRUE(ComputeKraftSum(lengths).complete()) << k;
+      auto limited = LimitedHuffmanLengths(weights, 32);
+      ASSERT_TRUE(limited.ok());
+      EXPECT_EQ(limited.value(), lengths);  // the limit does not bind: Huffman returned as is
+    }
+  }
 }
 
 TEST(LimitedHuffmanProperty, LargeAlphabet) {

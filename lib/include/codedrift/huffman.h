@@ -14,7 +14,9 @@ namespace codedrift {
 // Optimal codeword lengths for the weights, in the same order. Zero weights get length 0 (no
 // codeword). A single nonzero weight gets length 1. Among optimal codes it picks the one that
 // merges leaves before equal-weight subtrees (the minimum-variance, shortest-maximum choice).
-// The weights' total must stay below 2^64.
+// The weights' total must stay below 2^64. Lengths can exceed kMaxCodeLength (32) when the
+// weights span a huge range (a Fibonacci-like profile needs K - 1); LimitedHuffmanLengths
+// gives lengths that CanonicalCodewords can assign.
 std::vector<int> HuffmanLengths(std::span<const uint64_t> weights);
 
 // Optimal lengths subject to every length <= max_length (1..32). Error when max_length is out
