@@ -28,15 +28,29 @@ class TokenTable {
   // fewer than `limit` tokens are stored, and otherwise returns kNotFound without storing it.
   template <bool kMaskDigits>
   uint32_t Intern(const char* token, size_t length, uint32_t limit) {
-    const uint64_t hash = Hash<kMaskDigits>(token, length);
+    // Short tokens (nearly all of them in telemetry) are read once into two words that serve
+    // both the hash and the comparison.
+    Words words{};
+    uint64_t hash;
+    if (length <= kShort) {
+      words = ReadShort<kMaskDigits>(token, length);
+      hash = MixShort(words, length);
+    } else {
+      hash = HashLong<kMaskDigits>(token, length);
+    }
     const auto tag = static_cast<uint32_t>(hash >> 32);
     size_t slot = hash & mask_;
     while (true) {
       const Slot& s = slots_[slot];
       if (s.index == kEmpty) break;
-      if (s.tag == tag && keys_[s.index].length == length &&
-          Equal<kMaskDigits>(arena_.data() + keys_[s.index].offset, token, length)) {
-        return first_id_ + s.index;
+      if (s.tag == tag) {
+        const Key& key = keys_[s.index];
+        const char* stored = arena_.data() + key.offset;
+        if (key.length == length &&
+            (length <= kShort ? ReadShort<false>(stored, length) == words
+                              : EqualLong<kMaskDigits>(stored, token, length))) {
+          return first_id_ + s.index;
+        }
       }
       slot = (slot + 1) & mask_;
     }
@@ -105,48 +119,65 @@ class TokenTable {
     return kMaskDigits ? MaskDigits(v) : v;
   }
 
-  // 64-bit multiply-mix over 8-byte words: a few cycles per word, and the final fold lets
-  // both the low bits (slot) and the high bits (tag) depend on every input byte. Partial words
-  // are read with overlapping loads rather than a variable-length memcpy (a libc call per
-  // token otherwise dominates short tokens).
+  // Up to 16 bytes as two words, by overlapping loads (no variable-length memcpy, which is a
+  // libc call per token): together they cover every byte, so for a given length equal words
+  // mean equal text.
+  static constexpr size_t kShort = 16;
+  struct Words {
+    uint64_t a = 0;
+    uint64_t b = 0;
+    bool operator==(const Words&) const = default;
+  };
   template <bool kMaskDigits>
-  static uint64_t Hash(const char* data, size_t length) {
+  static Words ReadShort(const char* p, size_t length) {
+    if (length >= 8) return {Load64<kMaskDigits>(p), Load64<kMaskDigits>(p + length - 8)};
+    if (length >= 4) return {Load32<kMaskDigits>(p), Load32<kMaskDigits>(p + length - 4)};
+    if (length > 0) return {LoadShort<kMaskDigits>(p, length), 0};
+    return {};
+  }
+
+  // One 64x64->128 multiply folds both words (the wyhash-style "mum"), then a multiply and
+  // xor-shift spread the result so that both the low bits (slot) and the high bits (tag)
+  // depend on every input bit.
+  static uint64_t MixShort(const Words& w, size_t length) {
+    __extension__ using Wide = unsigned __int128;
+    const Wide product = static_cast<Wide>(w.a ^ 0xA0761D6478BD642Full) *
+                         (w.b ^ 0xE7037ED1A0B428DBull ^ (length * 0x8EBC6AF09C88C6E3ull));
+    uint64_t h = static_cast<uint64_t>(product) ^ static_cast<uint64_t>(product >> 64);
+    h *= 0xBF58476D1CE4E5B9ull;
+    h ^= h >> 32;
+    return h;
+  }
+
+  // Longer tokens: multiply-mix over 8-byte words, the last word overlapping if need be.
+  template <bool kMaskDigits>
+  static uint64_t HashLong(const char* data, size_t length) {
     constexpr uint64_t kMul = 0x9E3779B97F4A7C15ull;
     uint64_t h = (length + 1) * 0xC2B2AE3D27D4EB4Full;
-    if (length >= 8) {
-      size_t i = 0;
-      for (; i + 8 < length; i += 8) {
-        h = (h ^ Load64<kMaskDigits>(data + i)) * kMul;
-        h ^= h >> 32;
-      }
-      // The last 8 bytes, overlapping the previous word if need be.
-      h = (h ^ Load64<kMaskDigits>(data + length - 8)) * kMul;
-    } else if (length >= 4) {
-      h = (h ^ (Load32<kMaskDigits>(data) << 32 | Load32<kMaskDigits>(data + length - 4))) * kMul;
-    } else if (length > 0) {
-      h = (h ^ LoadShort<kMaskDigits>(data, length)) * kMul;
+    for (size_t i = 0; i + 8 < length; i += 8) {
+      h = (h ^ Load64<kMaskDigits>(data + i)) * kMul;
+      h ^= h >> 32;
     }
+    h = (h ^ Load64<kMaskDigits>(data + length - 8)) * kMul;
     h ^= h >> 29;
     h *= 0xBF58476D1CE4E5B9ull;
     h ^= h >> 32;
     return h;
   }
 
-  // Stored (already masked) text against looked-up text of the same length, with the loads
-  // Hash uses.
   template <bool kMaskDigits>
-  static bool Equal(const char* stored, const char* text, size_t length) {
-    if (length >= 8) {
-      for (size_t i = 0; i + 8 < length; i += 8) {
-        if (Load64<false>(stored + i) != Load64<kMaskDigits>(text + i)) return false;
-      }
-      return Load64<false>(stored + length - 8) == Load64<kMaskDigits>(text + length - 8);
+  static uint64_t HashOf(const char* data, size_t length) {
+    return length <= kShort ? MixShort(ReadShort<kMaskDigits>(data, length), length)
+                            : HashLong<kMaskDigits>(data, length);
+  }
+
+  // Stored (already masked) text against looked-up text of the same length (> 8 bytes).
+  template <bool kMaskDigits>
+  static bool EqualLong(const char* stored, const char* text, size_t length) {
+    for (size_t i = 0; i + 8 < length; i += 8) {
+      if (Load64<false>(stored + i) != Load64<kMaskDigits>(text + i)) return false;
     }
-    if (length >= 4) {
-      return Load32<false>(stored) == Load32<kMaskDigits>(text) &&
-             Load32<false>(stored + length - 4) == Load32<kMaskDigits>(text + length - 4);
-    }
-    return length == 0 || LoadShort<false>(stored, length) == LoadShort<kMaskDigits>(text, length);
+    return Load64<false>(stored + length - 8) == Load64<kMaskDigits>(text + length - 8);
   }
 
   void Rehash(size_t capacity) {
@@ -154,7 +185,7 @@ class TokenTable {
     mask_ = capacity - 1;
     for (uint32_t index = 0; index < keys_.size(); ++index) {
       // Stored text is already masked, so hashing it unmasked gives the same value.
-      const uint64_t hash = Hash<false>(arena_.data() + keys_[index].offset, keys_[index].length);
+      const uint64_t hash = HashOf<false>(arena_.data() + keys_[index].offset, keys_[index].length);
       size_t slot = hash & mask_;
       while (slots_[slot].index != kEmpty) slot = (slot + 1) & mask_;
       slots_[slot] = Slot{static_cast<uint32_t>(hash >> 32), index};
