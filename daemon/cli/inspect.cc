@@ -111,8 +111,8 @@ TableReport TableFigures(const CodeTable& table, const std::string& path,
   out.unknown_symbols = fit.unknown_symbols;
   if (!fit.deployed_mean_bits && fit.unknown_symbols > 0) {
     warnings.push_back(std::to_string(fit.unknown_symbols) +
-                       " symbols are not covered by the table and it has no escape, so its "
-                       "mean length is undefined (deployed_mean_bits: null)");
+                       " occurrences of symbols the table does not cover, and it has no "
+                       "escape: its mean length is undefined (deployed_mean_bits: null)");
   }
   const int literal_bits = table.escape ? table.escape->literal_bits : 8;
   const auto saving = EstimateSaving(table, counts.older, counts.newer, literal_bits);

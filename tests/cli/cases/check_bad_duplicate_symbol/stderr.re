@@ -1,0 +1,1 @@
+^codedrift check: bad_duplicate_symbol\.table:8: .*duplicate

@@ -1,0 +1,1 @@
+^codedrift check: bad_kraft_over\.table:6: .*Kraft

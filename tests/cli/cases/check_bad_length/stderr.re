@@ -1,0 +1,1 @@
+^codedrift check: bad_length\.table:7: .*length.*40

@@ -1,0 +1,1 @@
+^codedrift check: bad_outside_alphabet\.table:7: .*0x1ff

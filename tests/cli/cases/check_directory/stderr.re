@@ -1,0 +1,1 @@
+^codedrift check: \.: .*directory

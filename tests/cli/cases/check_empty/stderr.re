@@ -1,0 +1,1 @@
+^codedrift check: empty\.bin:1: .*empty

@@ -1,0 +1,1 @@
+^codedrift check: garbage\.table:[0-9]+: 

@@ -1,0 +1,1 @@
+^codedrift check: no-such\.table: .*No such file or directory

@@ -1,0 +1,1 @@
+^codedrift codes: bad_kraft_over\.table:6: .*Kraft

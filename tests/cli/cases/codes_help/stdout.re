@@ -1,0 +1,2 @@
+escape comes last
+ties in symbol order

@@ -1,0 +1,1 @@
+^codedrift inspect: garbage\.table:[0-9]+: 

@@ -1,0 +1,2 @@
+newline stripped
+--rate

@@ -1,0 +1,1 @@
+^codedrift train: no-such-dir/x\.table: .*No such file or directory
