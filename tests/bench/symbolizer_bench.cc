@@ -1,6 +1,5 @@
 // Symbolizer and byte-histogram throughput against same-run baselines (memchr newline count,
 // split-only tokenizing), so results read as ratios rather than machine-dependent absolutes.
-#include <algorithm>
 #include <array>
 #include <cstdio>
 #include <cstring>
@@ -52,10 +51,6 @@ std::string MakeTelemetry(size_t target_bytes) {
   return out;
 }
 
-// The machine is shared: with --benchmark_repetitions the minimum is the figure least disturbed
-// by other work, so report it beside the mean and median.
-double MinOf(const std::vector<double>& v) { return *std::min_element(v.begin(), v.end()); }
-
 const std::string& BigBuffer() {
   static const std::string buffer = MakeTelemetry(size_t{32} << 20);
   return buffer;
@@ -93,7 +88,7 @@ void BM_CountBytes(benchmark::State& state) {
   }
   state.SetBytesProcessed(static_cast<int64_t>(state.iterations() * buffer.size()));
 }
-BENCHMARK(BM_CountBytes)->Unit(benchmark::kMillisecond)->ComputeStatistics("min", MinOf);
+BENCHMARK(BM_CountBytes)->Unit(benchmark::kMillisecond);
 
 void BM_CountBytesParallel(benchmark::State& state) {
   const std::string& buffer = BigBuffer();
@@ -105,11 +100,7 @@ void BM_CountBytesParallel(benchmark::State& state) {
   }
   state.SetBytesProcessed(static_cast<int64_t>(state.iterations() * buffer.size()));
 }
-BENCHMARK(BM_CountBytesParallel)
-    ->Arg(2)
-    ->Unit(benchmark::kMillisecond)
-    ->UseRealTime()
-    ->ComputeStatistics("min", MinOf);
+BENCHMARK(BM_CountBytesParallel)->Arg(2)->Unit(benchmark::kMillisecond)->UseRealTime();
 
 // Baseline: what `wc -l` does, counting newlines with memchr over the same buffer.
 void BM_Memchr_Newlines(benchmark::State& state) {
@@ -126,7 +117,7 @@ void BM_Memchr_Newlines(benchmark::State& state) {
   }
   state.SetBytesProcessed(static_cast<int64_t>(state.iterations() * buffer.size()));
 }
-BENCHMARK(BM_Memchr_Newlines)->Unit(benchmark::kMillisecond)->ComputeStatistics("min", MinOf);
+BENCHMARK(BM_Memchr_Newlines)->Unit(benchmark::kMillisecond);
 
 // Tokens, record by record as the daemon sees them; range(0) = mask_digits. The symbolizer
 // lives across iterations, so after the first pass the table is warm and full (timestamps
@@ -151,11 +142,7 @@ void BM_TokenSymbolizer_Append(benchmark::State& state) {
       static_cast<double>(symbols) / static_cast<double>(state.iterations());
   state.counters["distinct"] = symbolizer->IdLimit();
 }
-BENCHMARK(BM_TokenSymbolizer_Append)
-    ->Arg(0)
-    ->Arg(1)
-    ->Unit(benchmark::kMillisecond)
-    ->ComputeStatistics("min", MinOf);
+BENCHMARK(BM_TokenSymbolizer_Append)->Arg(0)->Arg(1)->Unit(benchmark::kMillisecond);
 
 // Baseline: the same delimiter-table split with no masking, hashing or lookup.
 void BM_TokenSplit_Baseline(benchmark::State& state) {
@@ -182,7 +169,7 @@ void BM_TokenSplit_Baseline(benchmark::State& state) {
   }
   state.SetBytesProcessed(static_cast<int64_t>(state.iterations() * TotalBytes(lines)));
 }
-BENCHMARK(BM_TokenSplit_Baseline)->Unit(benchmark::kMillisecond)->ComputeStatistics("min", MinOf);
+BENCHMARK(BM_TokenSplit_Baseline)->Unit(benchmark::kMillisecond);
 
 // Byte blocks (bytes:2) through the interning table, for comparison with single bytes.
 void BM_BytesSymbolizer_Append(benchmark::State& state) {
@@ -199,12 +186,7 @@ void BM_BytesSymbolizer_Append(benchmark::State& state) {
   state.SetBytesProcessed(static_cast<int64_t>(state.iterations() * TotalBytes(lines)));
   state.counters["distinct"] = symbolizer->IdLimit();
 }
-BENCHMARK(BM_BytesSymbolizer_Append)
-    ->Arg(1)
-    ->Arg(2)
-    ->Arg(4)
-    ->Unit(benchmark::kMillisecond)
-    ->ComputeStatistics("min", MinOf);
+BENCHMARK(BM_BytesSymbolizer_Append)->Arg(1)->Arg(2)->Arg(4)->Unit(benchmark::kMillisecond);
 
 }  // namespace
 }  // namespace codedrift
