@@ -18,6 +18,9 @@ constexpr int kLanes = 4;
 // histogram: each lane sees a quarter of them, far below 2^32.
 constexpr size_t kFlushBytes = size_t{1} << 30;
 
+// Below this, the lane tables cost more than they save.
+constexpr size_t kMinLaneBytes = 2048;
+
 // Below this, starting a thread costs more than counting on the calling thread.
 constexpr size_t kMinBytesPerThread = size_t{1} << 20;
 
@@ -47,6 +50,12 @@ void CountChunk(const unsigned char* p, size_t n, uint32_t (&lanes)[kLanes][256]
 
 void CountBytes(std::string_view data, uint64_t (&histogram)[256]) {
   const auto* p = reinterpret_cast<const unsigned char*>(data.data());
+  // Short records (most telemetry lines): zeroing and folding 4 KiB of lane tables would
+  // cost more than counting straight into the histogram.
+  if (data.size() < kMinLaneBytes) {
+    for (unsigned char c : data) ++histogram[c];
+    return;
+  }
   size_t remaining = data.size();
   while (remaining > 0) {
     uint32_t lanes[kLanes][256] = {};
