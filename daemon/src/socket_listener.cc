@@ -7,7 +7,6 @@
 #include <memory>
 #include <mutex>
 #include <type_traits>
-#include <variant>
 #include <vector>
 
 #include <boost/asio/dispatch.hpp>
@@ -18,8 +17,7 @@
 #include <boost/asio/steady_timer.hpp>
 #include <boost/asio/strand.hpp>
 
-#include "codedrift/framer.h"
-
+#include "connection_framer.h"
 #include "listener_core.h"
 #include <sys/stat.h>
 
@@ -35,73 +33,6 @@ using SteadyTime = std::chrono::steady_clock::time_point;
 // 64 KiB receive buffers beat 256 KiB on this machine kind (DESIGN.md §7): they stay in cache.
 constexpr size_t kReadBufferBytes = 64 * 1024;
 constexpr auto kAcceptRetryDelay = std::chrono::milliseconds(100);
-
-// The framer of one connection and the part of its tallies already added to the stream's
-// counters (framers count per instance; the stream counts per listener).
-class ConnectionFramer {
- public:
-  explicit ConnectionFramer(const StreamConfig& config) : framer_(Make(config)) {}
-
-  // Returns false once the framing is lost (oversized length prefix).
-  bool Feed(std::string_view chunk, const RecordHandler& handler) {
-    if (auto* lines = std::get_if<LineFramer>(&framer_)) {
-      lines->Feed(chunk, handler);
-      return true;
-    }
-    return std::get<LengthPrefixFramer>(framer_).Feed(chunk, handler);
-  }
-
-  void Finish(const RecordHandler& handler) {
-    if (auto* lines = std::get_if<LineFramer>(&framer_)) {
-      lines->Finish(handler);
-    } else {
-      std::get<LengthPrefixFramer>(framer_).Finish();
-    }
-  }
-
-  // Adds what the framer counted since the last call: a few atomics per chunk, not per record.
-  void Publish(StreamCounters& out) {
-    const FramerCounters& now = std::visit(
-        [](const auto& framer) -> const FramerCounters& { return framer.counters(); }, framer_);
-    const auto add = [](std::atomic<uint64_t>& to, uint64_t delta) {
-      if (delta != 0) to.fetch_add(delta, std::memory_order_relaxed);
-    };
-    add(out.records_total, now.records - published_.records);
-    const uint64_t overlong = now.overlong_truncated + now.overlong_dropped;
-    const uint64_t published_overlong = published_.overlong_truncated + published_.overlong_dropped;
-    if (overlong != published_overlong) {
-      out.Add(RecordRejectReason::kOverlong, overlong - published_overlong);
-    }
-    if (now.oversized_frame != published_.oversized_frame) {
-      out.Add(RecordRejectReason::kOversizedFrame,
-              now.oversized_frame - published_.oversized_frame);
-    }
-    if (now.truncated_frame != published_.truncated_frame) {
-      out.Add(RecordRejectReason::kTruncatedFrame,
-              now.truncated_frame - published_.truncated_frame);
-    }
-    published_ = now;
-  }
-
- private:
-  using Framer = std::variant<LineFramer, LengthPrefixFramer>;
-
-  static Framer Make(const StreamConfig& config) {
-    switch (config.framing) {
-      case Framing::kU16be:
-        return LengthPrefixFramer(LengthPrefix::kU16be, config.max_record_bytes);
-      case Framing::kU32be:
-        return LengthPrefixFramer(LengthPrefix::kU32be, config.max_record_bytes);
-      case Framing::kLines:
-      case Framing::kDatagram:  // the config refuses datagram framing on stream sockets
-        break;
-    }
-    return LineFramer(config.max_record_bytes, config.overlong);
-  }
-
-  Framer framer_;
-  FramerCounters published_;
-};
 
 template <class Protocol>
 class SocketListener;
