@@ -33,7 +33,7 @@ struct HttpServerOptions {
 // on several threads (each connection is a strand). Start, Stop and WaitStopped are
 // thread-safe; handlers run on io threads and must be thread-safe if the io_context has more
 // than one. Lifetime: connections keep the shared state alive, so destroying the server while
-// the io_context still runs is safe (it stops first).
+// the io_context still runs is safe (it stops first); destroy it before the io_context.
 class HttpServer {
  public:
   HttpServer(boost::asio::io_context& io, std::shared_ptr<const HttpRouter> router,

@@ -42,7 +42,8 @@ class ListenerCore;  // the per-scheme implementation (stream_listener.cc, datag
 // Reads go into a 64 KiB buffer per connection; everything is asynchronous, so a slow or
 // stuck client never holds up another. Runs on the caller's io_context (any number of
 // threads); Start, Stop and WaitStopped are thread-safe. Connections keep the shared state
-// alive, so the listener may be destroyed while the io_context still runs (it stops first).
+// alive, so the listener may be destroyed while the io_context still runs (it stops first);
+// destroy it before the io_context.
 class StreamListener {
  public:
   // `counters` must not be null; the config is copied. Without `log`, lines go to std::clog.
