@@ -16,34 +16,47 @@ size_t HashBlock(uint64_t low, uint64_t high) {
   return static_cast<size_t>(h);
 }
 
+uint64_t PackLow(const SymbolId* block) { return uint64_t{block[0]} | (uint64_t{block[1]} << 32); }
+
+uint64_t PackHigh(const SymbolId* block, int order) {
+  if (order < 3) return 0;
+  return uint64_t{block[2]} | (order > 3 ? uint64_t{block[3]} << 32 : 0);
+}
+
 }  // namespace
 
-BlockCounter::BlockCounter(int order)
-    : order_(std::clamp(order, 2, 4)), slots_(kInitialSlots), mask_(kInitialSlots - 1) {}
+BlockCounter::BlockCounter(int order, int skip)
+    : order_(std::clamp(order, 2, 4)),
+      skip_(std::clamp(skip, 0, 3)),
+      slots_(kInitialSlots),
+      mask_(kInitialSlots - 1) {}
 
 void BlockCounter::Add(std::span<const SymbolId> ids) {
-  for (const SymbolId id : ids) {
-    pending_[pending_count_++] = id;
+  size_t i = 0;
+  while (head_count_ < skip_ && i < ids.size()) head_[head_count_++] = ids[i++];
+  for (; i < ids.size(); ++i) {
+    pending_[pending_count_++] = ids[i];
     if (pending_count_ < order_) continue;
     pending_count_ = 0;
-    const uint64_t low = uint64_t{pending_[0]} | (uint64_t{pending_[1]} << 32);
-    const uint64_t high =
-        order_ > 2 ? uint64_t{pending_[2]} | (order_ > 3 ? uint64_t{pending_[3]} << 32 : 0) : 0;
-    Insert(low, high);
+    Insert(PackLow(pending_), PackHigh(pending_, order_), 1);
   }
 }
 
-void BlockCounter::Insert(uint64_t low, uint64_t high) {
-  ++blocks_;
+void BlockCounter::AddBlock(const SymbolId* block, uint64_t count) {
+  if (count > 0) Insert(PackLow(block), PackHigh(block, order_), count);
+}
+
+void BlockCounter::Insert(uint64_t low, uint64_t high, uint64_t count) {
+  blocks_ += count;
   for (size_t i = HashBlock(low, high) & mask_;; i = (i + 1) & mask_) {
     Slot& slot = slots_[i];
     if (slot.count == 0) {
-      slot = {low, high, 1};
+      slot = {low, high, count};
       if (++used_ * 2 > slots_.size()) Grow();
       return;
     }
     if (slot.low == low && slot.high == high) {
-      ++slot.count;
+      slot.count += count;
       return;
     }
   }

@@ -10,6 +10,10 @@ namespace codedrift::cli {
 namespace {
 
 constexpr size_t kPairSlots = 65536;
+// Positioned reads of 128 KiB: the buffer and the two 256 KiB count tables then stay inside
+// this machine's 1 MiB per-core L2. Measured with 2 threads on a page-cached 256 MiB log:
+// 64-256 KiB reads cost ~3.3 GB/s per CPU-second, 1 MiB reads ~2.3 (the copy spills to L3).
+constexpr size_t kPairReadBytes = size_t{128} << 10;
 // 32-bit counters are flushed into the 64-bit totals before they can overflow: each of the
 // two tables sees at most half the pairs of this many bytes (2^30 < 2^32).
 constexpr uint64_t kFlushBytes = uint64_t{1} << 32;
@@ -24,10 +28,10 @@ struct HalfCounter {
   void Run(const CaptureStream& stream, Progress* progress) {
     std::vector<uint32_t> table_a(kPairSlots);
     std::vector<uint32_t> table_b(kPairSlots);
-    std::vector<char> buffer(kReadChunkBytes);
+    std::vector<char> buffer(kPairReadBytes);
     uint64_t since_flush = 0;
     for (uint64_t offset = begin; offset < end;) {
-      const size_t want = static_cast<size_t>(std::min<uint64_t>(kReadChunkBytes, end - offset));
+      const size_t want = static_cast<size_t>(std::min<uint64_t>(kPairReadBytes, end - offset));
       auto got = stream.ReadAt(offset, want, buffer.data());
       if (!got.ok()) {
         status = got.error();
@@ -102,7 +106,8 @@ void CountPairsLittleEndian(const unsigned char* data, size_t length, uint32_t* 
   for (; i + 2 <= length; i += 2) ++table_a[data[i] | (data[i + 1] << 8)];
 }
 
-Result<BytePairCounts> CountBytePairs(const CaptureStream& stream, Progress* progress) {
+Result<BytePairCounts> CountBytePairs(const CaptureStream& stream, bool parallel,
+                                      Progress* progress) {
   BytePairCounts out;
   out.bytes = stream.size();
   out.singles.assign(256, 0);
@@ -120,7 +125,7 @@ Result<BytePairCounts> CountBytePairs(const CaptureStream& stream, Progress* pro
   // The newer half runs on a second thread when one can be had; the answer never depends on
   // it.
   std::thread worker;
-  if (std::thread::hardware_concurrency() > 1 && stream.size() >= 2 * kReadChunkBytes) {
+  if (parallel && stream.size() >= 2 * kPairReadBytes) {
     try {
       worker = std::thread([&] { newer.Run(stream, progress); });
     } catch (const std::system_error&) {

@@ -22,9 +22,10 @@ struct BytePairCounts {
   uint64_t older_bytes = 0;             // the first half's length, even
 };
 
-// Reads the stream in two halves on up to two threads (1 MiB positioned reads each).
-// `progress` may be null.
-Result<BytePairCounts> CountBytePairs(const CaptureStream& stream, Progress* progress);
+// Reads the stream in two halves (128 KiB positioned reads each), on two threads when
+// `parallel` and a second thread can be had. `progress` may be null.
+Result<BytePairCounts> CountBytePairs(const CaptureStream& stream, bool parallel,
+                                      Progress* progress);
 
 // The counting kernel, exposed for benchmarks and tests: adds the pairs of `data` (its length
 // must be even) to `table`, indexed by the pair's two bytes read as a little-endian 16-bit

@@ -121,46 +121,79 @@ Status CaptureStream::ForEachChunk(const std::function<bool(std::string_view)>& 
 }
 
 Status CaptureStream::ForEachLineBatch(const LineBatchFn& consume) const {
+  return ForEachLineBatch(consume, 0, size_);
+}
+
+Status CaptureStream::ForEachLineBatch(const LineBatchFn& consume, uint64_t begin,
+                                       uint64_t end) const {
   std::vector<char> buffer(kReadChunkBytes);
   std::vector<std::string_view> lines;
   for (size_t i = 0; i < files_.size(); ++i) {
     const CaptureFile& file = files_[i];
-    if (::lseek(fds_[i], 0, SEEK_SET) < 0) return FileError(file.path, std::strerror(errno));
-    uint64_t left = file.size;
-    uint64_t consumed = file.stream_offset;  // stream offset of buffer[0]
-    size_t carry = 0;                        // bytes of an unfinished line at buffer[0]
+    const uint64_t file_end = file.stream_offset + file.size;
+    if (file_end <= begin || file.stream_offset >= end) continue;
+    uint64_t next = std::max(begin, file.stream_offset);  // stream offset of the next read
+    const uint64_t stop = std::min(end, file_end);
+    uint64_t consumed = next;  // stream offset of buffer[0]
+    size_t carry = 0;          // bytes of an unfinished line at buffer[0]
     while (true) {
       if (carry == buffer.size()) buffer.resize(buffer.size() * 2);  // a very long line
-      const size_t want = static_cast<size_t>(std::min<uint64_t>(left, buffer.size() - carry));
-      auto got = ReadFully(fds_[i], file.path, buffer.data() + carry, want);
+      const size_t want =
+          static_cast<size_t>(std::min<uint64_t>(stop - next, buffer.size() - carry));
+      auto got =
+          PreadFully(fds_[i], file.path, buffer.data() + carry, want, next - file.stream_offset);
       if (!got.ok()) return got.error();
-      left -= got.value();
+      next += got.value();
       const size_t filled = carry + got.value();
-      const bool at_end = got.value() == 0 || left == 0;
+      const bool at_end = got.value() < want || next == stop;
 
       lines.clear();
-      const char* begin = buffer.data();
-      const char* const end = buffer.data() + filled;
-      while (begin != end) {
-        const void* newline = std::memchr(begin, '\n', static_cast<size_t>(end - begin));
+      const char* line = buffer.data();
+      const char* const filled_end = buffer.data() + filled;
+      while (line != filled_end) {
+        const void* newline = std::memchr(line, '\n', static_cast<size_t>(filled_end - line));
         if (newline == nullptr) break;
-        const char* const next = static_cast<const char*>(newline) + 1;
-        lines.emplace_back(begin, static_cast<size_t>(next - begin));
-        begin = next;
+        const char* const after = static_cast<const char*>(newline) + 1;
+        lines.emplace_back(line, static_cast<size_t>(after - line));
+        line = after;
       }
-      if (at_end && begin != end) {  // the file's last line has no '\n'
-        lines.emplace_back(begin, static_cast<size_t>(end - begin));
-        begin = end;
+      if (at_end && line != filled_end) {  // the range's (or file's) last line has no '\n'
+        lines.emplace_back(line, static_cast<size_t>(filled_end - line));
+        line = filled_end;
       }
-      const size_t used = static_cast<size_t>(begin - buffer.data());
+      const size_t used = static_cast<size_t>(line - buffer.data());
       if (!lines.empty() && !consume(lines, consumed + used)) return Ok{};
       consumed += used;
       carry = filled - used;
-      if (carry > 0) std::memmove(buffer.data(), begin, carry);
+      if (carry > 0) std::memmove(buffer.data(), line, carry);
       if (at_end) break;
     }
   }
   return Ok{};
+}
+
+Result<uint64_t> CaptureStream::LineEndAt(uint64_t offset) const {
+  if (offset >= size_) return size_;
+  for (const CaptureFile& file : files_) {
+    const uint64_t file_end = file.stream_offset + file.size;
+    if (offset >= file_end) continue;
+    std::vector<char> buffer(size_t{64} << 10);
+    for (uint64_t position = offset; position < file_end;) {
+      const size_t want =
+          static_cast<size_t>(std::min<uint64_t>(buffer.size(), file_end - position));
+      auto got = ReadAt(position, want, buffer.data());
+      if (!got.ok()) return got.error();
+      if (got.value() == 0) break;
+      const void* newline = std::memchr(buffer.data(), '\n', got.value());
+      if (newline != nullptr) {
+        return position + static_cast<uint64_t>(static_cast<const char*>(newline) - buffer.data()) +
+               1;
+      }
+      position += got.value();
+    }
+    return file_end;  // a line never spans two files
+  }
+  return size_;
 }
 
 }  // namespace codedrift::cli

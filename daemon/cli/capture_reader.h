@@ -25,8 +25,8 @@ struct CaptureFile {
 };
 
 // The files of one command, open for reading, taken as one concatenated byte stream. Owns the
-// descriptors (move-only). ReadAt may be called from several threads at once; the ForEach
-// walks are for one thread at a time.
+// descriptors (move-only). ReadAt, LineEndAt and ForEachLineBatch may be called from several
+// threads at once; ForEachChunk is for one thread at a time.
 class CaptureStream {
  public:
   // Checks every path: it exists, is a regular file (not a directory, pipe or device) and can
@@ -58,6 +58,14 @@ class CaptureStream {
   using LineBatchFn =
       std::function<bool(const std::vector<std::string_view>& lines, uint64_t stream_end)>;
   Status ForEachLineBatch(const LineBatchFn& consume) const;
+  // The same over the stream range [begin, end), which should start at a line boundary; a
+  // line cut by `end` is handed over cut. Positioned reads only: several threads may walk
+  // disjoint ranges at once.
+  Status ForEachLineBatch(const LineBatchFn& consume, uint64_t begin, uint64_t end) const;
+
+  // The stream offset just past the line that holds byte `offset` (past its '\n', or the end
+  // of its file); size() when `offset` is at or past the end.
+  Result<uint64_t> LineEndAt(uint64_t offset) const;
 
  private:
   CaptureStream() = default;

@@ -1,6 +1,8 @@
 #include "cli_common.h"
 
+#include <algorithm>
 #include <iostream>
+#include <thread>
 
 namespace codedrift::cli {
 
@@ -28,6 +30,16 @@ void AddSymbolFlags(CLI::App& command, SymbolFlags& flags) {
       .add_option("--max-distinct", flags.max_distinct,
                   "tokens: distinct tokens kept; later new tokens share the overflow symbol \"\"")
       ->check(CLI::Range(1u, 1u << 30));
+  command
+      .add_option("--threads", flags.threads,
+                  "Threads for counting (default: one per core; at most 2 are used). The "
+                  "figures do not depend on it")
+      ->check(CLI::Range(1, 1024));
+}
+
+int CountingThreads(const SymbolFlags& flags) {
+  if (flags.threads > 0) return flags.threads;
+  return static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
 }
 
 Result<SymbolSource> ResolveSymbolSource(const SymbolFlags& flags, const CodeTable* table) {

@@ -31,8 +31,12 @@ struct SymbolFlags {
   std::string delimiters = TokenOptions{}.delimiters;
   bool mask_digits = false;
   uint32_t max_distinct = TokenOptions{}.max_distinct;
+  int threads = 0;  // 0: one per hardware thread (the counting passes use at most 2)
 };
 void AddSymbolFlags(CLI::App& command, SymbolFlags& flags);
+
+// Threads the counting pass may use.
+int CountingThreads(const SymbolFlags& flags);
 
 // The symbol source the flags ask for. With a table, the table's alphabet decides when
 // --symbols is not given, and must agree with the flags when it is.

@@ -193,7 +193,8 @@ int RunInspect(const InspectOptions& options) {
   StreamCounts counts;
   {
     Progress progress("counting", stream.value().size());
-    auto result = CountStream(stream.value(), source.value(), counted, &progress);
+    auto result = CountStream(stream.value(), source.value(), counted,
+                              CountingThreads(options.symbols), &progress);
     if (!result.ok()) {
       PrintError(kCommand, result.error().message);
       return kExitInvalidInput;

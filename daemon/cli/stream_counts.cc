@@ -8,9 +8,13 @@
 
 #include "block_counter.h"
 #include "byte_pairs.h"
+#include "token_pass.h"
 
 namespace codedrift::cli {
 namespace {
+
+// Below this a second thread costs more than it saves.
+constexpr uint64_t kParallelTokensMinBytes = uint64_t{1} << 20;
 
 std::vector<uint64_t> Nonzero(const std::vector<uint64_t>& counts) {
   std::vector<uint64_t> values;
@@ -61,8 +65,8 @@ Status CountHigherByteOrders(const CaptureStream& stream, const std::set<int>& o
 }
 
 Result<StreamCounts> CountSingleBytes(const CaptureStream& stream, const std::set<int>& orders,
-                                      Progress* progress) {
-  auto pairs = CountBytePairs(stream, progress);
+                                      bool parallel, Progress* progress) {
+  auto pairs = CountBytePairs(stream, parallel, progress);
   if (!pairs.ok()) return pairs.error();
   const BytePairCounts& counted = pairs.value();
 
@@ -194,9 +198,14 @@ Result<StreamCounts> CountSymbolized(const CaptureStream& stream, const SymbolSo
 }  // namespace
 
 Result<StreamCounts> CountStream(const CaptureStream& stream, const SymbolSource& source,
-                                 const std::set<int>& orders, Progress* progress) {
+                                 const std::set<int>& orders, int threads, Progress* progress) {
+  const bool parallel = threads > 1;
   if (source.alphabet.kind == AlphabetKind::kBytes && source.alphabet.block == 1) {
-    return CountSingleBytes(stream, orders, progress);
+    return CountSingleBytes(stream, orders, parallel, progress);
+  }
+  if (source.alphabet.kind == AlphabetKind::kTokens && parallel &&
+      stream.size() >= kParallelTokensMinBytes) {
+    return CountTokensInHalves(stream, source.tokens, orders, true, progress);
   }
   return CountSymbolized(stream, source, orders, progress);
 }

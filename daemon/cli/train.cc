@@ -42,7 +42,8 @@ int RunTrain(const TrainOptions& options) {
   StreamCounts counts;
   {
     Progress progress("counting", stream.value().size());
-    auto counted = CountStream(stream.value(), source.value(), {1}, &progress);
+    auto counted = CountStream(stream.value(), source.value(), {1},
+                               CountingThreads(options.symbols), &progress);
     if (!counted.ok()) {
       PrintError(kCommand, counted.error().message);
       return kExitInvalidInput;
