@@ -1,6 +1,7 @@
 #include "token_pass.h"
 
 #include <algorithm>
+#include <cstdint>
 #include <map>
 #include <memory>
 #include <system_error>
@@ -23,9 +24,16 @@ struct Half {
   DenseCounter singles;
   std::map<int, std::vector<BlockCounter>> blocks;  // order -> counters by phase (skip)
   Status status = Ok{};
+  bool stop_on_overflow = false;  // second half: give up once its own table is full
+  bool overflowed = false;
+  SymbolId overflow_id = UINT32_MAX;  // the symbolizer's id of kOverflowToken
 
-  Half(const TokenOptions& options, const std::set<int>& orders, bool all_phases)
-      : symbolizer(MakeTokenSymbolizer(options)) {
+  Half(const TokenOptions& options, const std::set<int>& orders, bool second_half)
+      : symbolizer(MakeTokenSymbolizer(options)), stop_on_overflow(second_half) {
+    const bool all_phases = second_half;
+    for (SymbolId id = 0; id < symbolizer->IdLimit(); ++id) {
+      if (symbolizer->KeyOf(id) == kOverflowToken) overflow_id = id;
+    }
     for (const int order : orders) {
       if (order < 2) continue;
       for (int phase = 0; phase < (all_phases ? order : 1); ++phase) {
@@ -49,7 +57,9 @@ struct Half {
           }
           ids.clear();
           if (progress != nullptr) progress->Advance(batch_bytes);
-          return true;
+          const std::vector<uint64_t>& counts = singles.counts();
+          overflowed = overflow_id < counts.size() && counts[overflow_id] != 0;
+          return !(stop_on_overflow && overflowed);
         },
         begin, end);
   }
@@ -122,17 +132,9 @@ std::vector<uint64_t> Resized(const std::vector<uint64_t>& counts, size_t size) 
   return out;
 }
 
-bool Overflowed(const Half& half) {
-  const std::vector<uint64_t>& counts = half.singles.counts();
-  for (SymbolId id = 0; id < half.symbolizer->IdLimit() && id < counts.size(); ++id) {
-    if (counts[id] != 0 && half.symbolizer->KeyOf(id) == kOverflowToken) return true;
-  }
-  return false;
-}
-
-// The second half's symbolizer ran out of room: its overflow may hide tokens the first half
-// knows, so renumbering cannot be exact. The first half's symbolizer and counters carry on
-// through the second half instead, exactly as one sequential pass would.
+// The second half's symbolizer ran out of room (it stopped there): its overflow may hide tokens
+// the first half knows, so renumbering cannot be exact. The first half's symbolizer and
+// counters carry on through the second half instead, exactly as one sequential pass would.
 Result<StreamCounts> ContinueSequentially(const CaptureStream& stream, uint64_t split, Half& first,
                                           Progress* progress) {
   const std::vector<uint64_t> older_counts = first.singles.counts();
@@ -178,7 +180,7 @@ Result<StreamCounts> CountTokensInHalves(const CaptureStream& stream, const Toke
   }
   if (!first.status.ok()) return first.status.error();
   if (!second.status.ok()) return second.status.error();
-  if (Overflowed(second)) return ContinueSequentially(stream, split.value(), first, progress);
+  if (second.overflowed) return ContinueSequentially(stream, split.value(), first, progress);
 
   const Symbolizer& a = *first.symbolizer;
   const Renumbering renumbering = Renumber(a, *second.symbolizer, options.max_distinct);

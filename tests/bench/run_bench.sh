@@ -34,45 +34,53 @@ bytes=$(stat -c %s "$capture")
 cat "$capture" >/dev/null
 cat "$capture" >/dev/null
 
-# median_seconds CMD...: runs CMD $runs times (output discarded) and prints the median wall time.
-median_seconds() {
-  local times=()
-  local TIMEFORMAT=%3R
-  for ((i = 0; i < runs; i++)); do
-    times+=("$({ time "$@" >/dev/null 2>&1; } 2>&1)")
-  done
-  printf '%s\n' "${times[@]}" | sort -n | awk '{ v[NR] = $1 } END { print v[int((NR + 1) / 2)] }'
+# measure CMD...: runs CMD $runs times (output discarded) and prints the median wall time and
+# the median CPU time (user + sys, all threads) in seconds. CPU time tells how much work a run
+# costs when other processes share the cores and wall times stretch.
+measure() {
+  local TIMEFORMAT="%3R %3U %3S" samples
+  samples=$(for ((i = 0; i < runs; i++)); do { time "$@" >/dev/null 2>&1; } 2>&1; done)
+  median() { sort -n | awk '{ v[NR] = $1 } END { print v[int((NR + 1) / 2)] }'; }
+  echo "$(awk '{ print $1 }' <<<"$samples" | median) $(awk '{ print $2 + $3 }' <<<"$samples" | median)"
 }
 
 baseline_s=""
-report() {  # name seconds
-  local name=$1 seconds=$2
-  awk -v n="$name" -v s="$seconds" -v b="$bytes" -v base="${baseline_s:-$seconds}" 'BEGIN {
+report() {  # name, then the output of measure: wall and CPU seconds
+  local name=$1 wall=$2 cpu=$3
+  awk -v n="$name" -v s="$wall" -v c="$cpu" -v b="$bytes" -v base="${baseline_s:-$wall}" 'BEGIN {
     if (s <= 0) s = 0.001
-    printf "  %-46s %8.3f s  %8.0f MB/s  %6.2fx wc -l\n", n, s, b / s / 1e6, base / s
+    if (c <= 0) c = 0.001
+    printf "  %-46s %7.3f s %7.0f MB/s %6.2fx wc -l  | cpu %6.3f s %6.0f MB/cpu-s\n",
+           n, s, b / s / 1e6, base / s, c, b / c / 1e6
   }'
 }
 
 echo
-echo "offline throughput on a page-cached $((bytes >> 20)) MiB capture (median of $runs runs)"
-baseline_s=$(median_seconds wc -l "$capture")
-report "wc -l (baseline)" "$baseline_s"
-report "cat > /dev/null" "$(median_seconds cat "$capture")"
+echo "offline throughput on a page-cached $((bytes >> 20)) MiB capture (median of $runs runs;"
+echo "wall time, MB/s and ratio to wc -l, then CPU time of all threads; $(nproc) cores,"
+echo "load average $(cut -d' ' -f1 /proc/loadavg) before the runs)"
+read -r baseline_s baseline_cpu <<<"$(measure wc -l "$capture")"
+report "wc -l (baseline)" "$baseline_s" "$baseline_cpu"
+# shellcheck disable=SC2046  # word splitting of measure's two numbers is intended
+report "cat > /dev/null" $(measure cat "$capture")
 report "inspect --symbols bytes --deflate-budget 0" \
-  "$(median_seconds "$codedrift" inspect --symbols bytes --deflate-budget 0 "$capture")"
+  $(measure "$codedrift" inspect --symbols bytes --deflate-budget 0 "$capture")
 report "inspect --symbols bytes (32 MiB deflate sample)" \
-  "$(median_seconds "$codedrift" inspect --symbols bytes "$capture")"
-report "inspect --symbols tokens" \
-  "$(median_seconds "$codedrift" inspect --symbols tokens "$capture")"
+  $(measure "$codedrift" inspect --symbols bytes "$capture")
+report "inspect --symbols tokens" $(measure "$codedrift" inspect --symbols tokens "$capture")
+report "inspect --symbols tokens --threads 1" \
+  $(measure "$codedrift" inspect --symbols tokens --threads 1 "$capture")
 report "inspect --symbols tokens --mask-digits" \
-  "$(median_seconds "$codedrift" inspect --symbols tokens --mask-digits "$capture")"
+  $(measure "$codedrift" inspect --symbols tokens --mask-digits "$capture")
+report "inspect --symbols tokens --mask-digits --threads 1" \
+  $(measure "$codedrift" inspect --symbols tokens --mask-digits --threads 1 "$capture")
 echo "  goals (DESIGN.md section 7): inspect bytes >= 0.5x wc -l; tokens >= 150 MB/s offline"
 
 # ---------------------------------------------------------------------------------------------
 # HOOKS: daemon ingest benchmarks go here (owned by the daemon engineer).
-# Available: $build, $codedrift, $capture (page-cached), $bytes, $runs, median_seconds CMD...,
-# and report NAME SECONDS (prints MB/s over $bytes and the ratio to the wc -l baseline; set
-# baseline_s to another baseline, e.g. a recv-and-discard receiver, before calling it).
+# Available: $build, $codedrift, $capture (page-cached), $bytes, $runs, `measure CMD...` (median
+# wall and CPU seconds) and `report NAME WALL CPU` (MB/s over $bytes and the ratio to the wc -l
+# baseline; set baseline_s to another baseline, e.g. a recv-and-discard receiver, first).
 # Example shape: start codedriftd on loopback, time `codedrift replay "$capture" --to tcp://...`
 # against a plain receiver, stop the daemon.
 # ---------------------------------------------------------------------------------------------
