@@ -8,6 +8,7 @@
 
 #include "block_counter.h"
 #include "byte_pairs.h"
+#include "id_pipeline.h"
 #include "token_pass.h"
 
 namespace codedrift::cli {
@@ -86,14 +87,16 @@ Result<StreamCounts> CountSingleBytes(const CaptureStream& stream, const std::se
 
 // Tokens, and byte blocks of 2..4: one sequential pass through the symbolizer, counting its
 // ids densely (order 1) and in n-id blocks (orders 2..4).
+// With `pipelined`, the counting runs on a second thread while the caller symbolizes.
 class SymbolizedPass {
  public:
   SymbolizedPass(std::unique_ptr<Symbolizer> symbolizer, const std::set<int>& orders,
-                 uint64_t middle)
-      : symbolizer_(std::move(symbolizer)), middle_(middle) {
-    for (const int order : orders) {
-      if (order >= 2) blocks_.emplace_back(order);
-    }
+                 uint64_t middle, bool pipelined)
+      : symbolizer_(std::move(symbolizer)),
+        middle_(middle),
+        blocks_(MakeBlockCounters(orders)),
+        pipeline_([this](const std::vector<SymbolId>& ids) { Count(ids); }, pipelined) {
+    ids_ = pipeline_.TakeBuffer();
   }
 
   Symbolizer& symbolizer() { return *symbolizer_; }
@@ -104,19 +107,22 @@ class SymbolizedPass {
     symbolizer_->Append(record, ids_);
     if (!split_ && end >= middle_) {
       Flush();
+      pipeline_.Drain();
       older_ = all_.counts();
       split_ = true;
     }
   }
 
+  // Hands the ids symbolized so far to the counting stage.
   void Flush() {
-    all_.Add(ids_);
-    for (BlockCounter& counter : blocks_) counter.Add(ids_);
-    ids_.clear();
+    if (ids_.empty()) return;
+    pipeline_.Push(std::move(ids_));
+    ids_ = pipeline_.TakeBuffer();
   }
 
   void Finish(StreamCounts& out) {
     Flush();
+    pipeline_.Finish();
     const Alphabet& alphabet = symbolizer_->alphabet();
     out.all = SymbolCounts(alphabet);
     out.older = SymbolCounts(alphabet);
@@ -137,24 +143,40 @@ class SymbolizedPass {
   }
 
  private:
+  static std::vector<BlockCounter> MakeBlockCounters(const std::set<int>& orders) {
+    std::vector<BlockCounter> counters;
+    for (const int order : orders) {
+      if (order >= 2) counters.emplace_back(order);
+    }
+    return counters;
+  }
+
+  // Runs on the counting stage.
+  void Count(const std::vector<SymbolId>& ids) {
+    all_.Add(ids);
+    for (BlockCounter& counter : blocks_) counter.Add(ids);
+  }
+
   std::unique_ptr<Symbolizer> symbolizer_;
   uint64_t middle_;
   bool split_ = false;
   std::vector<SymbolId> ids_;
-  DenseCounter all_;
+  DenseCounter all_;             // written by the counting stage; read after Drain/Finish
   std::vector<uint64_t> older_;  // order-1 counts at the split
   std::vector<BlockCounter> blocks_;
+  IdPipeline pipeline_;  // last: stops before the counters it writes go away
 };
 
 Result<StreamCounts> CountSymbolized(const CaptureStream& stream, const SymbolSource& source,
-                                     const std::set<int>& orders, Progress* progress) {
+                                     const std::set<int>& orders, bool pipelined,
+                                     Progress* progress) {
   const bool tokens = source.alphabet.kind == AlphabetKind::kTokens;
   std::unique_ptr<Symbolizer> symbolizer =
       tokens ? MakeTokenSymbolizer(source.tokens) : MakeBytesSymbolizer(source.alphabet.block);
   if (symbolizer == nullptr) {
     return Error{"unsupported symbols: " + source.alphabet.ToString()};
   }
-  SymbolizedPass pass(std::move(symbolizer), orders, stream.size() / 2);
+  SymbolizedPass pass(std::move(symbolizer), orders, stream.size() / 2, pipelined);
   Status status = Ok{};
   if (tokens) {
     status = stream.ForEachLineBatch(
@@ -207,7 +229,7 @@ Result<StreamCounts> CountStream(const CaptureStream& stream, const SymbolSource
       stream.size() >= kParallelTokensMinBytes) {
     return CountTokensInHalves(stream, source.tokens, orders, true, progress);
   }
-  return CountSymbolized(stream, source, orders, progress);
+  return CountSymbolized(stream, source, orders, parallel, progress);
 }
 
 }  // namespace codedrift::cli

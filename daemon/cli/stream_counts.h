@@ -43,8 +43,9 @@ struct StreamCounts {
 // Counts the stream. `orders` lists the block orders wanted (1..4; 1 is always done). For
 // bytes the halves split at the middle byte (rounded down to even); for tokens after the line
 // that holds the last byte of the first half. With `threads` > 1, single bytes and tokens
-// (inputs of 1 MiB and more) count their two halves on two threads; the counts are the same
-// either way. `progress` may be null.
+// (inputs of 1 MiB and more) count their two halves on two threads, and the other symbolizer
+// passes count on a second thread while the first symbolizes; the counts are the same either
+// way. `progress` may be null.
 Result<StreamCounts> CountStream(const CaptureStream& stream, const SymbolSource& source,
                                  const std::set<int>& orders, int threads, Progress* progress);
 

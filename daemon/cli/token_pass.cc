@@ -12,6 +12,7 @@
 #include "codedrift/entropy.h"
 
 #include "block_counter.h"
+#include "id_pipeline.h"
 
 namespace codedrift::cli {
 namespace {
@@ -42,8 +43,18 @@ struct Half {
     }
   }
 
-  void Run(const CaptureStream& stream, uint64_t begin, uint64_t end, Progress* progress) {
-    std::vector<SymbolId> ids;
+  void Count(const std::vector<SymbolId>& ids) {
+    singles.Add(ids);
+    for (auto& [order, counters] : blocks) {
+      for (BlockCounter& counter : counters) counter.Add(ids);
+    }
+  }
+
+  // Symbolizes [begin, end); with `pipelined`, counting runs on a second thread meanwhile.
+  void Run(const CaptureStream& stream, uint64_t begin, uint64_t end, bool pipelined,
+           Progress* progress) {
+    IdPipeline pipeline([this](const std::vector<SymbolId>& ids) { Count(ids); }, pipelined);
+    std::vector<SymbolId> ids = pipeline.TakeBuffer();
     status = stream.ForEachLineBatch(
         [&](const std::vector<std::string_view>& lines, uint64_t) {
           uint64_t batch_bytes = 0;
@@ -51,17 +62,17 @@ struct Half {
             symbolizer->Append(line, ids);
             batch_bytes += line.size();
           }
-          singles.Add(ids);
-          for (auto& [order, counters] : blocks) {
-            for (BlockCounter& counter : counters) counter.Add(ids);
-          }
-          ids.clear();
+          pipeline.Push(std::move(ids));
+          ids = pipeline.TakeBuffer();
           if (progress != nullptr) progress->Advance(batch_bytes);
+          if (!stop_on_overflow) return true;
+          pipeline.Drain();
           const std::vector<uint64_t>& counts = singles.counts();
           overflowed = overflow_id < counts.size() && counts[overflow_id] != 0;
-          return !(stop_on_overflow && overflowed);
+          return !overflowed;
         },
         begin, end);
+    pipeline.Finish();
   }
 };
 
@@ -134,11 +145,12 @@ std::vector<uint64_t> Resized(const std::vector<uint64_t>& counts, size_t size) 
 
 // The second half's symbolizer ran out of room (it stopped there): its overflow may hide tokens
 // the first half knows, so renumbering cannot be exact. The first half's symbolizer and
-// counters carry on through the second half instead, exactly as one sequential pass would.
+// counters carry on through the second half instead, exactly as one sequential pass would,
+// with counting moved to a second thread so that the two stages at least overlap.
 Result<StreamCounts> ContinueSequentially(const CaptureStream& stream, uint64_t split, Half& first,
                                           Progress* progress) {
   const std::vector<uint64_t> older_counts = first.singles.counts();
-  first.Run(stream, split, stream.size(), progress);
+  first.Run(stream, split, stream.size(), true, progress);
   if (!first.status.ok()) return first.status.error();
   const Symbolizer& symbolizer = *first.symbolizer;
   const size_t ids = symbolizer.IdLimit();
@@ -168,15 +180,16 @@ Result<StreamCounts> CountTokensInHalves(const CaptureStream& stream, const Toke
   std::thread worker;
   if (parallel) {
     try {
-      worker = std::thread([&] { second.Run(stream, split.value(), stream.size(), progress); });
+      worker =
+          std::thread([&] { second.Run(stream, split.value(), stream.size(), false, progress); });
     } catch (const std::system_error&) {
     }
   }
-  first.Run(stream, 0, split.value(), progress);
+  first.Run(stream, 0, split.value(), false, progress);
   if (worker.joinable()) {
     worker.join();
   } else {
-    second.Run(stream, split.value(), stream.size(), progress);
+    second.Run(stream, split.value(), stream.size(), false, progress);
   }
   if (!first.status.ok()) return first.status.error();
   if (!second.status.ok()) return second.status.error();
