@@ -274,6 +274,7 @@ void AddInspectCommand(CLI::App& app, int& exit_code) {
       ->add_option("--orders", options->orders,
                    "Block entropy orders to report, comma-separated (1..4; default 1)")
       ->delimiter(',')
+      ->allow_extra_args(false)
       ->check(CLI::Range(1, 4));
   command
       ->add_option("--max-length", options->max_length,
