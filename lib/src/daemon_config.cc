@@ -142,7 +142,7 @@ std::optional<DaemonConfig> ReadRoot(const YAML::Node& document, const ConfigCon
     ok = ok && every.has_value();
   }
   if (const ConfigEntry* e = map->Require("streams", diagnostics)) {
-    auto items = ReadList(*e, diagnostics);
+    auto items = ReadList(*e, diagnostics, kMaxStreams);
     if (items && items->empty()) {
       ReportValue(*e, "the list is empty, expected at least one stream", diagnostics);
       ok = false;
@@ -181,25 +181,11 @@ Result<DaemonConfig> ParseWithBase(std::string_view text, std::string_view file_
                                    std::filesystem::path base_dir) {
   ConfigDiagnostics diagnostics{std::string(file_name)};
   const ConfigContext context{diagnostics, std::move(base_dir)};
-  std::vector<YAML::Node> documents;
-  try {
-    documents = YAML::LoadAll(std::string(text));
-  } catch (const YAML::Exception& error) {
-    diagnostics.Report({error.mark.line + 1, error.mark.column + 1},
-                       "YAML syntax error: " + error.msg);
-    return Error{diagnostics.Joined()};
-  } catch (const std::exception& error) {
-    diagnostics.Report({}, std::string("cannot parse YAML: ") + error.what());
-    return Error{diagnostics.Joined()};
-  }
-  if (documents.size() > 1) {
-    diagnostics.Report(PositionOf(documents[1]),
-                       "a second YAML document starts here, expected a single document");
-    return Error{diagnostics.Joined()};
-  }
+  std::optional<YAML::Node> document = LoadSingleYamlDocument(text, diagnostics);
+  if (!document) return Error{diagnostics.Joined()};
   std::optional<DaemonConfig> config;
   try {
-    config = ReadRoot(documents.empty() ? YAML::Node() : documents[0], context, file_name);
+    config = ReadRoot(*document, context, file_name);
   } catch (const std::exception& error) {
     // yaml-cpp accessors throw only on misuse; keep any such slip from crossing the API.
     diagnostics.Report({}, std::string("internal error reading the config: ") + error.what());

@@ -228,7 +228,7 @@ std::optional<AlertRule> ReadAlert(const ConfigEntry& entry, uint64_t window_sym
 
 std::optional<std::vector<int>> ReadOrders(const ConfigEntry& entry,
                                            ConfigDiagnostics& diagnostics) {
-  auto items = ReadList(entry, diagnostics);
+  auto items = ReadList(entry, diagnostics, kMaxBlockOrder);
   if (!items) return std::nullopt;
   if (items->empty()) {
     ReportValue(entry, "the list is empty, expected at least one order, e.g. [1]", diagnostics);

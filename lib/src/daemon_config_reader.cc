@@ -40,15 +40,19 @@ void ConfigDiagnostics::Report(SourcePosition at, std::string_view what) {
     ++suppressed_;
     return;
   }
-  messages_.push_back(file_name_ + ":" + std::to_string(at.line) + ":" + std::to_string(at.column) +
-                      ": " + std::string(what));
+  messages_.push_back({at, file_name_ + ":" + std::to_string(at.line) + ":" +
+                               std::to_string(at.column) + ": " + std::string(what)});
 }
 
 std::string ConfigDiagnostics::Joined() const {
+  std::vector<Message> sorted = messages_;
+  std::stable_sort(sorted.begin(), sorted.end(), [](const Message& a, const Message& b) {
+    return a.at.line != b.at.line ? a.at.line < b.at.line : a.at.column < b.at.column;
+  });
   std::string out;
-  for (const std::string& message : messages_) {
+  for (const Message& message : sorted) {
     if (!out.empty()) out += '\n';
-    out += message;
+    out += message.text;
   }
   if (suppressed_ > 0) out += "\n(" + std::to_string(suppressed_) + " more errors not shown)";
   return out;
@@ -249,9 +253,16 @@ std::optional<size_t> ReadChoice(const ConfigEntry& entry,
 }
 
 std::optional<std::vector<ConfigEntry>> ReadList(const ConfigEntry& entry,
-                                                 ConfigDiagnostics& diagnostics) {
+                                                 ConfigDiagnostics& diagnostics, size_t max_items) {
   if (!entry.value.IsSequence()) {
     ReportValue(entry, "expected a list, got " + Describe(entry.value), diagnostics);
+    return std::nullopt;
+  }
+  if (entry.value.size() > max_items) {
+    ReportValue(entry,
+                "the list has " + std::to_string(entry.value.size()) + " items, expected at most " +
+                    std::to_string(max_items),
+                diagnostics);
     return std::nullopt;
   }
   std::vector<ConfigEntry> items;

@@ -26,21 +26,32 @@ struct SourcePosition {
 SourcePosition PositionOf(const YAML::Node& node);
 
 // Collects error messages, each prefixed with "file:line:column: ". Caps the count so a
-// hostile file cannot produce an unbounded report.
+// hostile file cannot produce an unbounded report. The walk visits sections in schema order;
+// the report is sorted so it reads top to bottom like the file.
 class ConfigDiagnostics {
  public:
   explicit ConfigDiagnostics(std::string file_name) : file_name_(std::move(file_name)) {}
 
   void Report(SourcePosition at, std::string_view what);
   bool has_errors() const { return !messages_.empty(); }
-  // All messages, one per line, without a trailing newline.
+  // All messages in file order (line, then column), one per line, no trailing newline.
   std::string Joined() const;
 
  private:
+  struct Message {
+    SourcePosition at;
+    std::string text;
+  };
   std::string file_name_;
-  std::vector<std::string> messages_;
+  std::vector<Message> messages_;
   size_t suppressed_ = 0;
 };
+
+// Parses `text` as exactly one YAML document (empty text gives a null node). Syntax errors,
+// a stray token and a second document are reported with their position. Use this instead of
+// yaml-cpp 0.7's LoadAll, which never returns on a lone "," (see daemon_config_yaml.cc).
+std::optional<YAML::Node> LoadSingleYamlDocument(std::string_view text,
+                                                 ConfigDiagnostics& diagnostics);
 
 // A value in the config and the key it was found under (the parent's key for list items);
 // `key` prefixes messages about the value.
@@ -107,8 +118,10 @@ std::optional<size_t> ReadChoice(const ConfigEntry& entry,
                                  std::span<const std::string_view> choices,
                                  ConfigDiagnostics& diagnostics);
 // The items of a list, each as an entry under the list's key; empty (and reported) when the
-// value is not a list.
+// value is not a list or has more than `max_items` items (YAML aliases can make a short file
+// name the same large list many times over, so callers bound what they will walk).
 std::optional<std::vector<ConfigEntry>> ReadList(const ConfigEntry& entry,
-                                                 ConfigDiagnostics& diagnostics);
+                                                 ConfigDiagnostics& diagnostics,
+                                                 size_t max_items = SIZE_MAX);
 
 }  // namespace codedrift

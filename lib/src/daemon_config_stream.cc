@@ -59,7 +59,7 @@ bool CheckApplicableKeys(const ConfigMap& map, const StreamConfig& stream,
 
 std::optional<std::vector<Cidr>> ReadAllow(const ConfigEntry& entry,
                                            ConfigDiagnostics& diagnostics) {
-  auto items = ReadList(entry, diagnostics);
+  auto items = ReadList(entry, diagnostics, kMaxAllowRules);
   if (!items) return std::nullopt;
   if (items->empty()) {
     ReportValue(entry,
@@ -184,7 +184,7 @@ std::optional<ParsedStream> ReadStream(const ConfigEntry& entry, const ConfigCon
   }
 
   if (const ConfigEntry* e = map->Require("models", diagnostics)) {
-    auto items = track(ReadList(*e, diagnostics));
+    auto items = track(ReadList(*e, diagnostics, kMaxModelsPerStream));
     if (items && items->empty()) {
       ReportValue(*e, "the list is empty, expected at least one model", diagnostics);
       ok = false;

@@ -9,9 +9,12 @@
 // or unix:// (default: lines for tcp/unix, datagram for udp); `max_connections` and
 // `idle_timeout` only for tcp/unix; `receive_buffer_bytes` only for udp; `allow` not for unix
 // (use file permissions); `overlong` not for u16be/u32be (an oversized frame closes the
-// connection). Relative paths (`table`, `state_dir`, `http.admin_token_file`) resolve against
-// the config file's directory. A model without `table` measures entropy only: no deployed
-// code, so no redundancy, saving or alert figures.
+// connection). Ports may be 0 (the system picks one). Relative paths (`table`, `state_dir`,
+// `http.admin_token_file`) resolve against the config file's directory. A model without `table`
+// measures entropy only: no deployed code, so no redundancy, saving or alert figures.
+// With datagram framing, `overlong` is for the daemon to apply to a datagram longer than
+// max_record_bytes (no framer is involved). `export_counts: true` is refused for alphabets of
+// more than 4096 symbols (each symbol is one Prometheus series). Webhooks are plain http://.
 #pragma once
 
 #include <chrono>
@@ -32,6 +35,9 @@ namespace codedrift {
 
 inline constexpr uint32_t kMaxRecordBytesLimit = 16u << 20;  // 16 MiB
 inline constexpr int kMaxBlockOrder = 4;
+inline constexpr size_t kMaxStreams = 256;
+inline constexpr size_t kMaxModelsPerStream = 64;
+inline constexpr size_t kMaxAllowRules = 256;
 
 struct HttpConfig {
   std::string host = "127.0.0.1";  // IPv6 without brackets
@@ -57,16 +63,20 @@ enum class WindowKind { kSymbols, kSpan };
 
 struct WindowConfig {
   WindowKind kind = WindowKind::kSymbols;
-  uint64_t symbols = 1048576;  // kSymbols: the last N symbols (1..2^28)
+  uint64_t symbols = 1048576;  // kSymbols: the last N symbols (2..2^28)
   ConfigDuration span{0};      // kSpan: the symbols of the last `span` (>= 1s)
-  uint32_t buckets = 60;       // sub-windows for batch-means confidence (2..4096)
+  // Sub-windows for batch-means confidence (2..4096; for kSymbols at most `symbols`, and
+  // when not given min(60, symbols)).
+  uint32_t buckets = 60;
 };
 
 struct AlertRule {
   double saving = 0.05;                                    // threshold, ratio in (0, 1)
   ConfigDuration for_duration = std::chrono::minutes(10);  // key `for`: sustained this long
-  uint64_t min_symbols = 100000;                           // no verdict on smaller windows
-  double confidence = 0.95;                                // of the lower saving bound, in (0, 1)
+  // No verdict on smaller windows. For a count window an explicit value above `symbols` is
+  // an error (the alert could never fire); the default is clamped to `symbols`.
+  uint64_t min_symbols = 100000;
+  double confidence = 0.95;  // of the lower saving bound, in (0, 1)
   ConfigDuration cooldown = std::chrono::hours(1);
   ConfigDuration max_payback = std::chrono::hours(24);  // alert only if payback is shorter
 };
