@@ -4,6 +4,7 @@
 #include <iostream>
 
 #include "cli_common.h"
+#include "synth.h"
 
 int main(int argc, char** argv) {
   using namespace codedrift::cli;
@@ -25,6 +26,7 @@ int main(int argc, char** argv) {
   AddCodesCommand(app, exit_code);
   AddInspectCommand(app, exit_code);
   AddReplayCommand(app, exit_code);
+  AddSynthCommand(app, exit_code);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {

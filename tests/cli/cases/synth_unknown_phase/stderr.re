@@ -1,0 +1,1 @@
+has no such phase, expected one of steady, firmware, quiet$
