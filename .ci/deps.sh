@@ -2,7 +2,7 @@
 # Installs the Debian 12 packages the build, tests and demo need, only when missing.
 set -euo pipefail
 packages=(cmake g++ make libboost-dev prometheus-cpp-dev libyaml-cpp-dev zlib1g-dev
-          nlohmann-json3-dev libcli11-dev libgtest-dev libgmock-dev libbenchmark-dev curl
+          nlohmann-json3-dev libcli11-dev libspdlog-dev libfmt-dev libgtest-dev libgmock-dev libbenchmark-dev curl
           prometheus chromium python3 iproute2 procps)
 missing=()
 for p in "${packages[@]}"; do
