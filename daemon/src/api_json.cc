@@ -87,6 +87,13 @@ nlohmann::json ModelJson(const ModelView& view, bool with_history) {
                         ? nlohmann::json("/api/v1/models/" + view.stream + "/" + view.name +
                                          "/proposal")
                         : nlohmann::json(nullptr);
+  out["alert"] = {{"saving_ratio", view.alert.saving},
+                  {"for_seconds", std::chrono::duration<double>(view.alert.for_duration).count()},
+                  {"min_symbols", view.alert.min_symbols},
+                  {"confidence", view.alert.confidence},
+                  {"cooldown_seconds", std::chrono::duration<double>(view.alert.cooldown).count()},
+                  {"max_payback_seconds",
+                   std::chrono::duration<double>(view.alert.max_payback).count()}};
   if (with_history) out["history"] = HistoryJson(view.history);
   return out;
 }

@@ -197,6 +197,7 @@ ModelView ModelRuntime::View() const {
   view.alphabet = config_.symbols.alphabet().ToString();
   view.table_path = config_.table;
   view.export_counts = config_.export_counts;
+  view.alert = config_.alert;
   std::lock_guard lock(mutex_);
   view.evaluation = latest_;
   view.state = state_;

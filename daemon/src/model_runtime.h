@@ -32,6 +32,7 @@ struct ModelView {
   std::string table_problem;  // why no table is deployed (empty when one is)
   std::vector<HistoryPoint> history;
   bool export_counts = false;
+  AlertRule alert;  // the configured rule (thresholds for charts)
   std::vector<std::pair<std::string, uint64_t>> window_counts;  // only with export_counts
   std::optional<std::string> latest_proposal;  // path of the newest proposal written
 };
