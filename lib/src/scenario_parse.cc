@@ -51,7 +51,8 @@ std::optional<int64_t> ParseUtc(std::string_view text) {
   if (y < 1970 || !date.ok() || h < 0 || h > 23 || mi < 0 || mi > 59 || s < 0 || s > 59) {
     return std::nullopt;
   }
-  return sys_days{date}.time_since_epoch().count() * int64_t{86400} + h * 3600 + mi * 60 + s;
+  return sys_days{date}.time_since_epoch().count() * int64_t{86400} + int64_t{h} * 3600 +
+         int64_t{mi} * 60 + s;
 }
 
 class ScenarioReader {

@@ -43,7 +43,8 @@ class TruncatedNormal {
 };
 
 // Picks index i with probability weights[i] / Σ weights by a binary search of the cumulative
-// weights (inverse CDF). Weights must be finite and > 0. Plain value type.
+// weights (inverse CDF). Weights must be finite and > 0. A single weight draws nothing from
+// the engine (so a one-message scenario spends no draw on choosing it). Plain value type.
 class WeightedPick {
  public:
   explicit WeightedPick(std::span<const double> weights);
