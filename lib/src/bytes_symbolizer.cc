@@ -24,6 +24,15 @@ class SingleByteSymbolizer final : public Symbolizer {
   SymbolId IdLimit() const override { return 256; }
   SymbolKey KeyOf(SymbolId id) const override { return SymbolKey(1, static_cast<char>(id)); }
 
+  // Stateless: ids are the bytes.
+  SymbolizerState ExportState() const override { return {}; }
+  Status ImportState(const SymbolizerState& state) override {
+    if (!state.keys.empty() || state.carry_bytes != 0) {
+      return Error{"checkpoint holds symbolizer state single bytes never have"};
+    }
+    return Ok{};
+  }
+
  private:
   Alphabet alphabet_ = Alphabet::Bytes(1);
 };
@@ -68,6 +77,34 @@ class BlockSymbolizer final : public Symbolizer {
   }
 
   SymbolId IdLimit() const override { return interner_.size(); }
+
+  SymbolizerState ExportState() const override {
+    SymbolizerState state;
+    for (SymbolId id = 0; id < interner_.size(); ++id) state.keys.push_back(KeyOf(id));
+    state.carry = pending_;
+    state.carry_bytes = static_cast<uint32_t>(pending_bytes_);
+    return state;
+  }
+
+  Status ImportState(const SymbolizerState& state) override {
+    const auto block = static_cast<size_t>(block_);
+    if (state.carry_bytes >= block || (state.carry >> (8 * state.carry_bytes)) != 0) {
+      return Error{"checkpoint holds an open block that does not fit the block size"};
+    }
+    ValueInterner interner;
+    for (const SymbolKey& key : state.keys) {
+      if (key.size() != block) return Error{"checkpoint holds a block key of the wrong size"};
+      uint32_t value = 0;
+      for (const char c : key) value = (value << 8) | static_cast<unsigned char>(c);
+      if (interner.Intern(value) + 1 != interner.size()) {
+        return Error{"checkpoint holds the same block key twice"};
+      }
+    }
+    interner_ = std::move(interner);
+    pending_ = static_cast<uint32_t>(state.carry);
+    pending_bytes_ = static_cast<int>(state.carry_bytes);
+    return Ok{};
+  }
 
   SymbolKey KeyOf(SymbolId id) const override {
     const uint32_t value = interner_.ValueOf(id);

@@ -2,6 +2,7 @@
 // counted per evaluation from the ring (O(N) sequential, cheaper than per-symbol bookkeeping).
 #include <algorithm>
 #include <cstring>
+#include <string>
 
 #include "codedrift/byte_histogram.h"
 #include "codedrift/window.h"
@@ -39,6 +40,39 @@ class RingWindow final : public Window {
   uint64_t size() const override { return size_; }
   uint64_t memory_bytes() const override { return ring_.size() * sizeof(T); }
 
+  WindowState ExportState() const override {
+    WindowState state;
+    state.kind = kStateKind;
+    auto& out = Contents(state);
+    out.reserve(size_);
+    const uint64_t capacity = ring_.size();
+    const uint64_t oldest = (head_ + capacity - size_) % capacity;
+    const uint64_t first = std::min(size_, capacity - oldest);  // up to the end of the ring
+    out.insert(out.end(), ring_.begin() + static_cast<std::ptrdiff_t>(oldest),
+               ring_.begin() + static_cast<std::ptrdiff_t>(oldest + first));
+    out.insert(out.end(), ring_.begin(),
+               ring_.begin() + static_cast<std::ptrdiff_t>(size_ - first));
+    return state;
+  }
+
+  Status ImportState(const WindowState& state, [[maybe_unused]] SymbolId id_limit) override {
+    if (state.kind != kStateKind) return Error{"checkpoint holds another kind of window"};
+    const auto& in = Contents(state);
+    if (in.size() > ring_.size()) {
+      return Error{"checkpoint holds " + std::to_string(in.size()) + " symbols for a window of " +
+                   std::to_string(ring_.size())};
+    }
+    if constexpr (sizeof(T) > 1) {
+      for (T id : in) {
+        if (id >= id_limit) return Error{"checkpoint window holds an id the symbolizer lacks"};
+      }
+    }
+    std::copy(in.begin(), in.end(), ring_.begin());
+    size_ = in.size();
+    head_ = size_ % ring_.size();
+    return Ok{};
+  }
+
  private:
   template <class U>
   void Push(std::span<const U> symbols) {
@@ -75,6 +109,23 @@ class RingWindow final : public Window {
       for (uint64_t i = 0; i < n; ++i) {
         if (data[i] < counts.size()) ++counts[data[i]];
       }
+    }
+  }
+
+  static constexpr WindowStateKind kStateKind =
+      sizeof(T) == 1 ? WindowStateKind::kByteRing : WindowStateKind::kIdRing;
+  static auto& Contents(WindowState& state) {
+    if constexpr (sizeof(T) == 1) {
+      return state.bytes;
+    } else {
+      return state.ids;
+    }
+  }
+  static const auto& Contents(const WindowState& state) {
+    if constexpr (sizeof(T) == 1) {
+      return state.bytes;
+    } else {
+      return state.ids;
     }
   }
 

@@ -174,4 +174,23 @@ Evaluation ModelEvaluator::Evaluate(const ModelSample& sample, const CodeTable* 
   return e;
 }
 
+EvaluatorState ModelEvaluator::ExportState() const {
+  return EvaluatorState{.evaluated = !first_,
+                        .last_at = last_at_,
+                        .last_records = last_records_,
+                        .last_symbols = last_symbols_,
+                        .unknown_total = unknown_total_,
+                        .last_cumulative = last_cumulative_};
+}
+
+void ModelEvaluator::ImportState(EvaluatorState state) {
+  first_ = !state.evaluated;
+  last_at_ = state.last_at;
+  last_records_ = state.last_records;
+  last_symbols_ = state.last_symbols;
+  unknown_total_ = state.unknown_total;
+  last_cumulative_ = std::move(state.last_cumulative);
+  last_window_.reset();
+}
+
 }  // namespace codedrift

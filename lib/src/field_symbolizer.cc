@@ -60,6 +60,38 @@ class FieldSymbolizer final : public Symbolizer {
 
   uint64_t skipped_records() const override { return skipped_; }
 
+  SymbolizerState ExportState() const override {
+    SymbolizerState state;
+    if (options_.width_bits > kMaxDirectWidth) {
+      for (SymbolId id = 0; id < interner_.size(); ++id) state.keys.push_back(KeyOf(id));
+    }
+    state.carry = previous_;
+    state.skipped_records = skipped_;
+    return state;
+  }
+
+  Status ImportState(const SymbolizerState& state) override {
+    if (state.carry > mask_ || state.carry_bytes != 0) {
+      return Error{"checkpoint holds a previous field value wider than the field"};
+    }
+    if (options_.width_bits <= kMaxDirectWidth && !state.keys.empty()) {
+      return Error{"checkpoint holds keys for a field whose ids are its values"};
+    }
+    ValueInterner interner;
+    for (const SymbolKey& key : state.keys) {
+      if (key.size() != 8 || FieldValue(key) > mask_) {
+        return Error{"checkpoint holds a field key outside the field's range"};
+      }
+      if (interner.Intern(static_cast<uint32_t>(FieldValue(key))) + 1 != interner.size()) {
+        return Error{"checkpoint holds the same field key twice"};
+      }
+    }
+    interner_ = std::move(interner);
+    previous_ = state.carry;
+    skipped_ = state.skipped_records;
+    return Ok{};
+  }
+
  private:
   // Bit numbering.
   //  big endian: the packet is one bit string, most significant bit of byte 0 first (network

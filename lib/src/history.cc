@@ -25,4 +25,21 @@ std::vector<HistoryPoint> History::Points() const {
   return points;
 }
 
+HistoryState History::ExportState() const {
+  return HistoryState{.coarse = {coarse_.begin(), coarse_.end()},
+                      .fine = {fine_.begin(), fine_.end()},
+                      .evicted = evicted_};
+}
+
+void History::ImportState(const HistoryState& state) {
+  const auto tail = [](const std::vector<HistoryPoint>& points, size_t capacity) {
+    const size_t skip = points.size() > capacity ? points.size() - capacity : 0;
+    return std::deque<HistoryPoint>(points.begin() + static_cast<std::ptrdiff_t>(skip),
+                                    points.end());
+  };
+  coarse_ = tail(state.coarse, coarse_capacity_);
+  fine_ = tail(state.fine, fine_capacity_);
+  evicted_ = state.evicted;
+}
+
 }  // namespace codedrift

@@ -1,5 +1,7 @@
 #include "codedrift/model.h"
 
+#include <algorithm>
+
 #include "codedrift/byte_histogram.h"
 
 namespace codedrift {
@@ -108,6 +110,48 @@ ModelSample Model::Sample() {
 uint64_t Model::window_memory_bytes() {
   std::lock_guard lock(mutex_);
   return window_->memory_bytes();
+}
+
+ModelState Model::ExportState() {
+  ModelState state;
+  std::lock_guard lock(mutex_);
+  state.symbolizer = symbolizer_->ExportState();
+  state.window = window_->ExportState();
+  if (raw_bytes_) {
+    state.cumulative.assign(std::begin(byte_counts_), std::end(byte_counts_));
+  } else {
+    state.cumulative = cumulative_;
+  }
+  state.symbols_total = symbols_total_;
+  state.records_total = records_total_;
+  return state;
+}
+
+Status Model::ImportState(const ModelState& state) {
+  // Built aside and swapped in, so a refused state changes nothing.
+  auto symbolizer = MakeSymbolizer(symbolizer_spec_);
+  if (!symbolizer) return Error{"the model's symbolizer options are invalid"};
+  if (auto imported = symbolizer->ImportState(state.symbolizer); !imported.ok()) return imported;
+  const SymbolId limit = raw_bytes_ ? 256 : symbolizer->IdLimit();
+  auto window = MakeWindow(window_spec_, raw_bytes_, clock_);
+  if (auto imported = window->ImportState(state.window, limit); !imported.ok()) return imported;
+  if (state.cumulative.size() > limit) {
+    return Error{"checkpoint counts more symbols than the symbolizer knows"};
+  }
+  std::lock_guard lock(mutex_);
+  symbolizer_ = std::move(symbolizer);
+  window_ = std::move(window);
+  keys_.clear();
+  if (raw_bytes_) {
+    std::fill(std::begin(byte_counts_), std::end(byte_counts_), 0);
+    std::copy(state.cumulative.begin(), state.cumulative.end(), byte_counts_);
+    cumulative_.clear();
+  } else {
+    cumulative_ = state.cumulative;
+  }
+  symbols_total_ = state.symbols_total;
+  records_total_ = state.records_total;
+  return Ok{};
 }
 
 }  // namespace codedrift

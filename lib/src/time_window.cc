@@ -1,6 +1,7 @@
 // Time windows: counts in buckets of span/buckets; buckets older than the span are dropped as
 // time moves on. Ingest counts into the current bucket.
 #include <algorithm>
+#include <string>
 
 #include "codedrift/window.h"
 
@@ -53,6 +54,55 @@ class BucketWindow final : public Window {
     uint64_t bytes = 0;
     for (const auto& bucket : buckets_) bytes += bucket.capacity() * sizeof(uint64_t);
     return bytes;
+  }
+
+  // Buckets as they stand (expired ones are dropped by the next push or clone, here or after
+  // the import), oldest first, with the newest bucket's start time.
+  WindowState ExportState() const override {
+    WindowState state;
+    state.kind = WindowStateKind::kBuckets;
+    const size_t n = buckets_.size();
+    for (size_t i = 0; i < n; ++i) state.buckets.push_back(buckets_[(Slot(current_) + 1 + i) % n]);
+    state.newest_bucket_start = std::chrono::nanoseconds(current_ * bucket_ns_);
+    return state;
+  }
+
+  // The newest bucket goes where its start time falls on this window's clock; buckets that
+  // would sit before time zero of the clock (a checkpoint older than the clock) are dropped.
+  Status ImportState(const WindowState& state, SymbolId id_limit) override {
+    if (state.kind != WindowStateKind::kBuckets) {
+      return Error{"checkpoint holds another kind of window"};
+    }
+    const size_t n = buckets_.size();
+    if (state.buckets.size() != n) {
+      return Error{"checkpoint holds " + std::to_string(state.buckets.size()) +
+                   " buckets for a window of " + std::to_string(n)};
+    }
+    for (const auto& bucket : state.buckets) {
+      if (bucket.size() > id_limit) {
+        return Error{"checkpoint window holds an id the symbolizer lacks"};
+      }
+    }
+    const int64_t start = state.newest_bucket_start.count();
+    const int64_t newest =
+        start >= 0 ? start / bucket_ns_ : -((-start + bucket_ns_ - 1) / bucket_ns_);
+    const int64_t now_index = BucketIndex();
+    for (auto& bucket : buckets_) bucket.clear();
+    std::fill(sizes_.begin(), sizes_.end(), 0);
+    current_ = std::max<int64_t>(newest, 0);
+    if (newest > now_index || now_index - newest >= static_cast<int64_t>(n)) {
+      current_ = now_index;  // every bucket has expired (or the clock went back): start empty
+      return Ok{};
+    }
+    for (size_t i = 0; i < n; ++i) {
+      const int64_t index = newest - static_cast<int64_t>(n - 1 - i);
+      if (index < 0) continue;
+      buckets_[Slot(index)] = state.buckets[i];
+      uint64_t total = 0;
+      for (uint64_t c : state.buckets[i]) total += c;
+      sizes_[Slot(index)] = total;
+    }
+    return Ok{};
   }
 
  private:

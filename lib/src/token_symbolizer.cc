@@ -57,6 +57,31 @@ class TokenSymbolizer final : public Symbolizer {
     return SymbolKey(table_.TextOf(id));
   }
 
+  SymbolizerState ExportState() const override {
+    SymbolizerState state;
+    for (SymbolId id = kFirstTokenId; id < IdLimit(); ++id) state.keys.push_back(KeyOf(id));
+    return state;
+  }
+
+  // Stored texts are already masked, so interning them unmasked stores the same texts.
+  Status ImportState(const SymbolizerState& state) override {
+    if (state.keys.size() > max_distinct_) {
+      return Error{"checkpoint holds more tokens than max_distinct"};
+    }
+    TokenTable table(kFirstTokenId);
+    for (const SymbolKey& key : state.keys) {
+      if (key.empty() || key.find('\n') != SymbolKey::npos) {
+        return Error{"checkpoint holds a token no record could produce"};
+      }
+      if (table.Intern<false>(key.data(), key.size(), max_distinct_) + 1 !=
+          kFirstTokenId + table.size()) {
+        return Error{"checkpoint holds the same token twice"};
+      }
+    }
+    table_ = std::move(table);
+    return Ok{};
+  }
+
  private:
   SymbolId Lookup(const char* token, size_t length) {
     const uint32_t id = mask_digits_ ? table_.Intern<true>(token, length, max_distinct_)

@@ -55,6 +55,17 @@ double ShippedTableBits(const Alphabet& alphabet, const SymbolCounts& symbols, i
 // the field width for fields.
 int DefaultLiteralBits(const Alphabet& alphabet);
 
+// What a ModelEvaluator carries from one evaluation to the next, for checkpoints. `last_at` is
+// on the clock the samples were taken with.
+struct EvaluatorState {
+  bool evaluated = false;  // false: no evaluation yet (no rates on the next one)
+  std::chrono::nanoseconds last_at{0};
+  uint64_t last_records = 0;
+  uint64_t last_symbols = 0;
+  uint64_t unknown_total = 0;
+  std::vector<uint64_t> last_cumulative;  // by symbol id, as of the last evaluation
+};
+
 // Keeps what spans evaluations (cumulative counts for rates and unknown totals).
 // Not thread-safe: one evaluation thread per model.
 class ModelEvaluator {
@@ -65,6 +76,11 @@ class ModelEvaluator {
   // The whole window's counts as of the last Evaluate (proposals are trained on these).
   const std::optional<SymbolCounts>& last_window_counts() const { return last_window_; }
   const EvaluationOptions& options() const { return options_; }
+
+  // Checkpoints. Import replaces what spans evaluations (the last window counts stay empty
+  // until the next Evaluate).
+  EvaluatorState ExportState() const;
+  void ImportState(EvaluatorState state);
 
  private:
   EvaluationOptions options_;

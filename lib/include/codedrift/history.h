@@ -20,6 +20,13 @@ struct HistoryPoint {
   int state = 0;
 };
 
+// A History's contents, for checkpoints.
+struct HistoryState {
+  std::vector<HistoryPoint> coarse;  // oldest first
+  std::vector<HistoryPoint> fine;    // oldest first
+  size_t evicted = 0;                // fine points evicted so far
+};
+
 class History {
  public:
   History(size_t fine_capacity, size_t coarse_every, size_t coarse_capacity);
@@ -28,6 +35,10 @@ class History {
   // Oldest first: the coarse points, then the fine ones.
   std::vector<HistoryPoint> Points() const;
   size_t size() const { return fine_.size() + coarse_.size(); }
+
+  // Checkpoints. Import keeps the newest points that fit this history's capacities.
+  HistoryState ExportState() const;
+  void ImportState(const HistoryState& state);
 
  private:
   size_t fine_capacity_;

@@ -40,6 +40,16 @@ struct ModelSample {
   std::chrono::nanoseconds taken_at{0};
 };
 
+// Everything a model carries, for checkpoints. Ids are the symbolizer's: restoring the
+// symbolizer first makes them mean the same keys again.
+struct ModelState {
+  SymbolizerState symbolizer;
+  WindowState window;
+  std::vector<uint64_t> cumulative;  // symbols ever seen, by id
+  uint64_t symbols_total = 0;
+  uint64_t records_total = 0;
+};
+
 // Thread-safe: Ingest may be called from any thread; Sample from another.
 class Model {
  public:
@@ -53,6 +63,12 @@ class Model {
   const SymbolizerSpec& symbolizer_spec() const { return symbolizer_spec_; }
   const WindowSpec& window_spec() const { return window_spec_; }
   uint64_t window_memory_bytes();
+
+  // Checkpoints: a copy of the state (brief lock, like Sample), and taking a saved state over
+  // (before the first Ingest). Import checks the state fits this model's spec and leaves the
+  // model as it was when it does not.
+  ModelState ExportState();
+  Status ImportState(const ModelState& state);
 
  private:
   const SymbolizerSpec symbolizer_spec_;

@@ -31,6 +31,16 @@ struct FieldOptions {
   FieldTransform transform = FieldTransform::kNone;  // against the previous record's value
 };
 
+// What a symbolizer carries from record to record, for checkpoints.
+struct SymbolizerState {
+  // Keys the symbolizer numbered itself, in id order (token texts from id 2 on, byte blocks
+  // and wide field values from id 0); empty for symbolizers whose ids are the values.
+  std::vector<SymbolKey> keys;
+  uint64_t carry = 0;        // byte blocks: the open block's bytes; field: the previous value
+  uint32_t carry_bytes = 0;  // byte blocks: bytes in the open block
+  uint64_t skipped_records = 0;
+};
+
 // Turns records into dense symbol ids and ids back into keys. Stateful (blocks carry across
 // records, field deltas need the previous record): one instance per model. Not thread-safe.
 class Symbolizer {
@@ -44,6 +54,15 @@ class Symbolizer {
   virtual SymbolKey KeyOf(SymbolId id) const = 0;
   // Records too short for a field, etc. (counted by the caller as rejected).
   virtual uint64_t skipped_records() const { return 0; }
+
+  // Checkpoints (never on the hot path): what to save, and taking it over in a fresh
+  // symbolizer with the same options, which then hands out the same ids for the same keys.
+  // Import refuses keys that this symbolizer could not have produced (wrong size, out of
+  // range, duplicates, more than max_distinct).
+  virtual SymbolizerState ExportState() const { return {}; }
+  virtual Status ImportState(const SymbolizerState& /*state*/) {
+    return Error{"this symbolizer cannot be restored from a checkpoint"};
+  }
 };
 
 // bytes (block 1: id = byte value), bytes blocks (id = big-endian packed n bytes; a partial

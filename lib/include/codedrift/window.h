@@ -9,6 +9,7 @@
 #include <vector>
 
 #include "codedrift/clock.h"
+#include "codedrift/result.h"
 #include "codedrift/symbolizer.h"
 
 namespace codedrift {
@@ -28,6 +29,17 @@ struct WindowCounts {
   uint64_t symbols = 0;
 };
 
+// A window's contents for checkpoints; only the members of its kind are used.
+enum class WindowStateKind { kNone, kByteRing, kIdRing, kBuckets };
+struct WindowState {
+  WindowStateKind kind = WindowStateKind::kNone;  // kNone: the window cannot be saved
+  std::vector<uint8_t> bytes;                     // kByteRing: the symbols, oldest first
+  std::vector<SymbolId> ids;                      // kIdRing: the symbols, oldest first
+  std::vector<std::vector<uint64_t>> buckets;     // kBuckets: counts by id, oldest bucket first
+  // kBuckets: when the newest bucket began, on the window's clock.
+  std::chrono::nanoseconds newest_bucket_start{0};
+};
+
 // A window over symbol ids of element type T (uint8_t for single bytes, uint32_t otherwise).
 // Not thread-safe: the owning Model serialises access.
 class Window {
@@ -43,6 +55,14 @@ class Window {
   virtual uint64_t size() const = 0;
   // Bytes of memory the window holds (RSS planning).
   virtual uint64_t memory_bytes() const = 0;
+
+  // Checkpoints (never on the hot path): the contents, and taking them over into a fresh window
+  // of the same spec. Import refuses a state of another kind or size, or with an id at or above
+  // `id_limit`, and then leaves the window as it was.
+  virtual WindowState ExportState() const { return {}; }
+  virtual Status ImportState(const WindowState& /*state*/, SymbolId /*id_limit*/) {
+    return Error{"this window kind cannot be restored from a checkpoint"};
+  }
 };
 
 // Count window over single bytes (ring of bytes) or ids (ring of uint32).
