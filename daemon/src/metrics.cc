@@ -159,7 +159,8 @@ void AddModel(FamilyBuilder& out, const ModelMetricsSnapshot& m) {
 DaemonMetrics::DaemonMetrics(std::string_view version)
     : registry_(std::make_shared<prometheus::Registry>()),
       streams_(std::make_shared<const std::vector<StreamCountersEntry>>()),
-      models_(std::make_shared<const std::vector<ModelMetricsSnapshot>>()) {
+      models_(std::make_shared<const std::vector<ModelMetricsSnapshot>>()),
+      process_(std::make_shared<const std::vector<ProcessSample>>()) {
   // Buckets from 100 µs to 10 s: an evaluation is O(alphabet) and usually takes milliseconds.
   evaluation_seconds_ = &prometheus::BuildHistogram()
                              .Name("codedrift_evaluation_seconds")
@@ -190,17 +191,31 @@ void DaemonMetrics::UpdateModels(std::vector<ModelMetricsSnapshot> models) {
   models_ = std::move(next);
 }
 
+void DaemonMetrics::UpdateProcess(std::vector<ProcessSample> samples) {
+  auto next = std::make_shared<const std::vector<ProcessSample>>(std::move(samples));
+  std::lock_guard<std::mutex> lock(mu_);
+  process_ = std::move(next);
+}
+
 void DaemonMetrics::ObserveEvaluation(double seconds) { evaluation_seconds_->Observe(seconds); }
 
 std::string DaemonMetrics::RenderMetrics() const {
   std::shared_ptr<const std::vector<StreamCountersEntry>> streams;
   std::shared_ptr<const std::vector<ModelMetricsSnapshot>> models;
+  std::shared_ptr<const std::vector<ProcessSample>> process;
   {
     std::lock_guard<std::mutex> lock(mu_);
     streams = streams_;
     models = models_;
+    process = process_;
   }
   FamilyBuilder builder;
+  for (const ProcessSample& sample : *process) {
+    std::vector<ClientMetric::Label> labels;
+    for (const auto& [name, value] : sample.labels) labels.push_back({name, value});
+    builder.Sample(sample.name, sample.help, sample.counter ? kCounter : kGauge,
+                   std::move(labels), sample.value);
+  }
   for (const StreamCountersEntry& entry : *streams) {
     if (entry.counters) AddStream(builder, entry);
   }

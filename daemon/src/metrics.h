@@ -44,6 +44,16 @@ struct ModelMetricsSnapshot {
   std::vector<std::pair<std::string, uint64_t>> symbol_counts;
 };
 
+// One process-level sample (webhook deliveries, checkpoint failures, proposal failures):
+// counters the daemon keeps elsewhere, copied in at publish time.
+struct ProcessSample {
+  std::string name;  // full metric name, e.g. codedrift_webhook_deliveries_total
+  std::string help;
+  bool counter = true;
+  std::vector<std::pair<std::string, std::string>> labels;
+  double value = 0;
+};
+
 // A stream's name and its counters (shared with the listener that writes them).
 struct StreamCountersEntry {
   std::string stream;
@@ -67,6 +77,8 @@ class DaemonMetrics {
   void SetStreams(std::vector<StreamCountersEntry> streams);
   // Replaces the per-model figures with those of the latest evaluation.
   void UpdateModels(std::vector<ModelMetricsSnapshot> models);
+  // Replaces the process-level samples (at each evaluation).
+  void UpdateProcess(std::vector<ProcessSample> samples);
   // Records how long one evaluation pass took (codedrift_evaluation_seconds).
   void ObserveEvaluation(double seconds);
 
@@ -80,6 +92,7 @@ class DaemonMetrics {
   mutable std::mutex mu_;  // guards the two snapshots below (swapped whole, read by copy)
   std::shared_ptr<const std::vector<StreamCountersEntry>> streams_;
   std::shared_ptr<const std::vector<ModelMetricsSnapshot>> models_;
+  std::shared_ptr<const std::vector<ProcessSample>> process_;
 };
 
 }  // namespace codedrift
