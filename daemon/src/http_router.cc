@@ -76,10 +76,12 @@ PathVerdict DecodePath(std::string_view path, std::vector<std::string>* segments
     for (size_t i = pos; i < end; ++i) {
       char c = path[i];
       if (c == '%') {
-        if (i + 2 >= end) return PathVerdict::kMalformed;  // needs two hex digits
-        const int high = HexValue(path[i + 1]);
-        const int low = HexValue(path[i + 2]);
-        if (high < 0 || low < 0) return PathVerdict::kMalformed;
+        const int high = i + 2 < end ? HexValue(path[i + 1]) : -1;  // needs two hex digits
+        const int low = i + 2 < end ? HexValue(path[i + 2]) : -1;
+        if (high < 0 || low < 0) {
+          segments->clear();  // only a path that decodes hands out segments
+          return PathVerdict::kMalformed;
+        }
         c = static_cast<char>(high * 16 + low);
         i += 2;
       }

@@ -17,6 +17,7 @@
 
 #include "code_table_parser.h"
 #include "code_table_text.h"
+#include "yaml_documents.h"
 
 namespace codedrift {
 namespace {
@@ -182,18 +183,26 @@ Result<CodeTable> ParseCodeTable(const std::string& yaml_text, const std::string
     }
   }
   try {
-    std::vector<YAML::Node> documents = YAML::LoadAll(yaml_text);
-    if (documents.empty() || documents[0].IsNull()) {
+    // Not YAML::LoadAll: it never returns on a stray ',' (see yaml_documents.h).
+    const YamlDocuments documents = ReadYamlDocuments(yaml_text);
+    if (documents.stray_token) {
+      const size_t at = static_cast<size_t>(std::max(0, documents.stray_token->pos));
+      return Error{file_name + ":" + std::to_string(std::max(1, documents.stray_token->line + 1)) +
+                   ": invalid YAML: unexpected '" +
+                   (at < yaml_text.size() ? yaml_text.substr(at, 1) : "") + "'"};
+    }
+    if (!documents.first.IsDefined() || documents.first.IsNull()) {
       return Error{file_name + ":1: the file holds no table (only comments or blank lines)"};
     }
-    for (size_t i = 1; i < documents.size(); ++i) {
-      if (documents[i].IsNull()) continue;  // a stray `---` or `...` at the end is harmless
-      return Error{file_name + ":" + std::to_string(std::max(1, documents[i].Mark().line + 1)) +
+    if (documents.second_document) {  // a stray `---` or `...` at the end is harmless
+      return Error{file_name + ":" +
+                   std::to_string(std::max(1, documents.second_document->line + 1)) +
                    ": a second YAML document; a table file holds one"};
     }
-    return table_parse::TableParser(file_name).Parse(documents[0]);
+    return table_parse::TableParser(file_name).Parse(documents.first);
   } catch (const YAML::Exception& e) {
-    return Error{file_name + ":" + std::to_string(e.mark.line + 1) + ": invalid YAML: " + e.msg};
+    return Error{file_name + ":" + std::to_string(std::max(1, e.mark.line + 1)) +
+                 ": invalid YAML: " + e.msg};
   } catch (const std::exception& e) {
     return Error{file_name + ": cannot read the table: " + e.what()};
   }
