@@ -13,6 +13,7 @@
 #include <nlohmann/json.hpp>
 #include <spdlog/spdlog.h>
 
+#include "checkpointer.h"
 #include "evaluation_loop.h"
 #include "http_server.h"
 #include "metrics.h"
@@ -82,6 +83,7 @@ struct Daemon::Impl {
 
   std::unique_ptr<HttpServer> http;
   std::unique_ptr<EvaluationLoop> evaluation;
+  std::unique_ptr<Checkpointer> checkpointer;  // set in Run before anything is received
 };
 
 Status Daemon::Impl::Apply(const DaemonConfig& next, bool initial) {
@@ -233,17 +235,28 @@ void Daemon::Impl::PublishMetrics() {
 void Daemon::Impl::EvaluateAll() {
   const auto started = std::chrono::steady_clock::now();
   std::vector<std::shared_ptr<StreamRuntime>> current;
+  std::chrono::nanoseconds checkpoint_every;
   {
     std::lock_guard lock(mutex);
     current = streams;
+    checkpoint_every = config.checkpoint_every;
   }
+  std::vector<std::shared_ptr<ModelRuntime>> evaluated;
   for (const auto& stream : current) {
     for (const auto& model : stream->models()) {
       if (auto change = model->Evaluate()) OnStateChange(*model, *change);
+      evaluated.push_back(model);
     }
   }
+  // Right after an evaluation, so the checkpoint's history and evaluator state agree.
+  if (checkpointer) checkpointer->WriteIfDue(evaluated, checkpoint_every);
   metrics.ObserveEvaluation(
       std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count());
+  if (checkpointer) {
+    metrics.UpdateProcess({{"codedrift_checkpoint_failures_total",
+                            "Checkpoint writes that failed (full disk, unwritable state_dir).",
+                            true, {}, static_cast<double>(checkpointer->failures())}});
+  }
   PublishMetrics();
 }
 
@@ -287,6 +300,14 @@ int Daemon::Run() {
     spdlog::error("{}", applied.error().message);
     return 2;
   }
+  // Restore before any io thread runs: no record reaches a model before its checkpoint.
+  d.checkpointer = std::make_unique<Checkpointer>(d.config.state_dir, d.clock);
+  std::vector<std::shared_ptr<ModelRuntime>> all_models;
+  for (const auto& stream : d.streams) {
+    const ModelList& list = stream->models();
+    all_models.insert(all_models.end(), list.begin(), list.end());
+  }
+  d.checkpointer->Restore(all_models);
   HttpServerOptions http_options;
   http_options.host = d.config.http.host;
   http_options.port = d.config.http.port;
@@ -340,6 +361,15 @@ int Daemon::Run() {
   }
   d.evaluation->Stop();
   d.EvaluateAll();
+  {
+    std::vector<std::shared_ptr<ModelRuntime>> models;
+    std::lock_guard lock(d.mutex);
+    for (const auto& stream : d.streams) {
+      const ModelList& list = stream->models();
+      models.insert(models.end(), list.begin(), list.end());
+    }
+    d.checkpointer->WriteAll(models);  // after the final evaluation: nothing received is lost
+  }
   {
     std::lock_guard lock(d.mutex);
     for (const auto& stream : d.streams) {

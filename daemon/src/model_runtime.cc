@@ -216,4 +216,29 @@ void ModelRuntime::SetLatestProposal(const std::string& path) {
   latest_proposal_ = path;
 }
 
+ModelCheckpoint ModelRuntime::ExportCheckpoint() const {
+  ModelCheckpoint checkpoint;
+  checkpoint.model = model_->ExportState();
+  checkpoint.evaluator = evaluator_.ExportState();
+  checkpoint.code_state = SnapshotOf(state_machine_);
+  std::lock_guard lock(mutex_);
+  checkpoint.state_since_unix = state_since_unix_;
+  checkpoint.latest_proposal = latest_proposal_.value_or("");
+  checkpoint.history = history_.ExportState();
+  return checkpoint;
+}
+
+Status ModelRuntime::ImportCheckpoint(const ModelCheckpoint& checkpoint) {
+  if (auto imported = model_->ImportState(checkpoint.model); !imported.ok()) return imported;
+  evaluator_.ImportState(checkpoint.evaluator);
+  RestoreFrom(checkpoint.code_state, state_machine_);
+  std::lock_guard lock(mutex_);
+  history_.ImportState(checkpoint.history);
+  state_ = state_machine_.state();
+  state_since_unix_ = checkpoint.state_since_unix;
+  alerts_total_ = state_machine_.alerts();
+  if (!checkpoint.latest_proposal.empty()) latest_proposal_ = checkpoint.latest_proposal;
+  return Ok{};
+}
+
 }  // namespace codedrift

@@ -9,6 +9,7 @@
 #include <string>
 #include <vector>
 
+#include "codedrift/checkpoint.h"
 #include "codedrift/code_state.h"
 #include "codedrift/code_table.h"
 #include "codedrift/daemon_config.h"
@@ -66,6 +67,12 @@ class ModelRuntime {
 
   ModelView View() const;
   void SetLatestProposal(const std::string& path);
+
+  // Checkpoints (evaluation thread). Export copies the state (identity and time are the
+  // caller's to fill in); Import takes a checkpoint over before the first evaluation, its
+  // steady times already moved to this process's clock.
+  ModelCheckpoint ExportCheckpoint() const;
+  Status ImportCheckpoint(const ModelCheckpoint& checkpoint);
 
   const std::string& stream() const { return stream_; }
   const std::string& name() const { return config_.name; }
