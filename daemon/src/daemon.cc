@@ -1,5 +1,6 @@
 #include "daemon.h"
 
+#include <atomic>
 #include <chrono>
 #include <filesystem>
 #include <fstream>
@@ -13,6 +14,7 @@
 #include <nlohmann/json.hpp>
 #include <spdlog/spdlog.h>
 
+#include "api_json.h"
 #include "checkpointer.h"
 #include "evaluation_loop.h"
 #include "http_server.h"
@@ -21,6 +23,7 @@
 #include "routes.h"
 #include "stream_listener.h"
 #include "stream_runtime.h"
+#include "webhook_sink.h"
 
 namespace codedrift {
 namespace asio = boost::asio;
@@ -62,11 +65,16 @@ struct Daemon::Impl {
   // Builds runtimes for `next`, reusing listeners and windows of `streams` where unchanged.
   // Nothing running is touched until everything new is known to be good.
   Status Apply(const DaemonConfig& next, bool initial);
+  std::unique_ptr<StreamListener> MakeListener(const std::shared_ptr<StreamRuntime>& runtime);
   std::shared_ptr<ModelRuntime> Find(const std::string& stream, const std::string& model) const;
   void PublishMetrics();
   void EvaluateAll();
   void OnStateChange(ModelRuntime& model, const StateChange& change);
-  Result<std::string> WriteProposal(ModelRuntime& model);
+  Result<WrittenProposal> WriteProposal(ModelRuntime& model);
+  void Notify(ModelRuntime& model, const StateChange& change,
+              const std::optional<WrittenProposal>& proposal);
+  void ReplaceWebhook(const std::optional<WebhookConfig>& next);
+  std::vector<ProcessSample> ProcessSamples() const;
   nlohmann::json Ports() const;
 
   DaemonOptions options;
@@ -81,10 +89,22 @@ struct Daemon::Impl {
   std::map<std::string, std::unique_ptr<StreamListener>> listeners;  // by stream name
   ProposalWriter proposals;
 
+  std::unique_ptr<WebhookSink> webhook;          // null when alerts.webhook is not set
+  std::optional<WebhookConfig> webhook_config;   // what `webhook` was built from
+  std::atomic<uint64_t> proposal_failures{0};
+
   std::unique_ptr<HttpServer> http;
   std::unique_ptr<EvaluationLoop> evaluation;
   std::unique_ptr<Checkpointer> checkpointer;  // set in Run before anything is received
 };
+
+std::unique_ptr<StreamListener> Daemon::Impl::MakeListener(
+    const std::shared_ptr<StreamRuntime>& runtime) {
+  return std::make_unique<StreamListener>(
+      io, runtime->config(), runtime->counters(),
+      [runtime](std::string_view record) { runtime->Deliver(record); },
+      [](std::string_view line) { spdlog::info("{}", line); });
+}
 
 Status Daemon::Impl::Apply(const DaemonConfig& next, bool initial) {
   auto token = ReadToken(next.http.admin_token_file);
@@ -106,6 +126,7 @@ Status Daemon::Impl::Apply(const DaemonConfig& next, bool initial) {
   // 2. Listeners: keep unchanged ones, bind new ones; a bind failure undoes the new ones.
   std::map<std::string, std::unique_ptr<StreamListener>> fresh;
   std::map<std::string, std::shared_ptr<StreamRuntime>> runtimes;
+  std::vector<std::shared_ptr<StreamRuntime>> released;  // streams whose listener we stopped
   for (auto& [stream_config, models] : built) {
     std::shared_ptr<StreamRuntime> existing;
     for (const auto& s : streams) {
@@ -115,13 +136,31 @@ Status Daemon::Impl::Apply(const DaemonConfig& next, bool initial) {
       runtimes[stream_config.name] = existing;
       continue;
     }
-    auto runtime = std::make_shared<StreamRuntime>(stream_config);
-    auto listener = std::make_unique<StreamListener>(
-        io, stream_config, runtime->counters(),
-        [runtime](std::string_view record) { runtime->Deliver(record); },
-        [](std::string_view line) { spdlog::info("{}", line); });
+    if (existing && existing->config().listen == stream_config.listen) {
+      // Same address, new settings: the old listener must let go of it first.
+      if (auto old = listeners.find(stream_config.name); old != listeners.end()) {
+        old->second->Stop();
+        old->second->WaitStopped(std::chrono::steady_clock::now() + kDrainDeadline);
+        listeners.erase(old);
+        released.push_back(existing);
+      }
+    }
+    // A stream keeps its counters across reloads (Prometheus counters must not reset).
+    auto runtime = existing ? std::make_shared<StreamRuntime>(stream_config, existing->counters())
+                            : std::make_shared<StreamRuntime>(stream_config);
+    auto listener = MakeListener(runtime);
     if (auto started = listener->Start(); !started.ok()) {
       for (auto& [name, l] : fresh) l->Stop();
+      // Give the streams whose address we released their old listeners back.
+      for (const auto& stream : released) {
+        auto restored = MakeListener(stream);
+        if (restored->Start().ok()) {
+          listeners[stream->config().name] = std::move(restored);
+        } else {
+          spdlog::error("{}: could not re-bind its old address after the failed reload",
+                        stream->config().name);
+        }
+      }
       return started.error();
     }
     fresh[stream_config.name] = std::move(listener);
@@ -160,6 +199,7 @@ Status Daemon::Impl::Apply(const DaemonConfig& next, bool initial) {
   }
   streams = std::move(next_streams);
   admin_token = std::move(token).value();
+  ReplaceWebhook(next.alerts.webhook);
   if (!initial && !(next.http.host == config.http.host && next.http.port == config.http.port)) {
     spdlog::warn("http listen address changes take effect only after a restart");
   }
@@ -252,11 +292,7 @@ void Daemon::Impl::EvaluateAll() {
   if (checkpointer) checkpointer->WriteIfDue(evaluated, checkpoint_every);
   metrics.ObserveEvaluation(
       std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count());
-  if (checkpointer) {
-    metrics.UpdateProcess({{"codedrift_checkpoint_failures_total",
-                            "Checkpoint writes that failed (full disk, unwritable state_dir).",
-                            true, {}, static_cast<double>(checkpointer->failures())}});
-  }
+  metrics.UpdateProcess(ProcessSamples());
   PublishMetrics();
 }
 
@@ -271,22 +307,95 @@ void Daemon::Impl::OnStateChange(ModelRuntime& model, const StateChange& change)
                  CodeStateName(change.to), change.reason);
   }
   if (!change.alert) return;
-  auto written = WriteProposal(model);
-  if (!written.ok()) {
-    spdlog::error("{}/{}: proposal not written: {}", model.stream(), model.name(),
-                  written.error().message);
+  std::optional<WrittenProposal> proposal;
+  if (auto written = WriteProposal(model); written.ok()) {
+    proposal = written.value();
+  } else {
+    spdlog::error("{}/{}: proposal not written (will retry with the next alert or on demand): {}",
+                  model.stream(), model.name(), written.error().message);
   }
+  Notify(model, change, proposal);
 }
 
-Result<std::string> Daemon::Impl::WriteProposal(ModelRuntime& model) {
+// Webhooks carry alerts only (entering stale outside the cooldown): a receiver that pages
+// people must not be woken by every flicker into drifting.
+void Daemon::Impl::Notify(ModelRuntime& model, const StateChange& change,
+                          const std::optional<WrittenProposal>& proposal) {
+  std::lock_guard lock(mutex);
+  if (!webhook) return;
+  const ModelView view = model.View();
+  AlertNotice notice;
+  notice.stream = model.stream();
+  notice.model = model.name();
+  notice.from_state = CodeStateName(change.from);
+  notice.to_state = CodeStateName(change.to);
+  notice.reason = change.reason;
+  nlohmann::json figures = ModelJson(view, false);
+  for (const char* key : {"stream", "model", "state", "reason", "proposal", "top_drift",
+                          "warnings", "alert", "table", "table_problem", "state_since"}) {
+    figures.erase(key);
+  }
+  notice.figures = std::move(figures);
+  if (proposal) {
+    notice.proposal_url = "/api/v1/models/" + model.stream() + "/" + model.name() + "/proposal";
+    notice.proposal_checksum = proposal->checksum;
+  }
+  notice.unix_time = view.state_since_unix;
+  notice.sequence = view.alerts_total;
+  webhook->Enqueue(std::move(notice));
+}
+
+void Daemon::Impl::ReplaceWebhook(const std::optional<WebhookConfig>& next) {
+  const bool same = webhook_config.has_value() == next.has_value() &&
+                    (!next || (next->url == webhook_config->url &&
+                               next->timeout == webhook_config->timeout &&
+                               next->retries == webhook_config->retries));
+  if (same) return;
+  if (webhook) webhook->Stop();
+  webhook = next ? std::make_unique<WebhookSink>(io, WebhookOptions::FromConfig(*next)) : nullptr;
+  webhook_config = next;
+}
+
+std::vector<ProcessSample> Daemon::Impl::ProcessSamples() const {
+  std::vector<ProcessSample> samples;
+  if (checkpointer) {
+    samples.push_back({"codedrift_checkpoint_failures_total",
+                       "Checkpoint writes that failed (full disk, unwritable state_dir).", true, {},
+                       static_cast<double>(checkpointer->failures())});
+  }
+  samples.push_back({"codedrift_proposal_failures_total",
+                     "Proposals that could not be written (full disk, unwritable state_dir).", true,
+                     {}, static_cast<double>(proposal_failures.load())});
+  std::lock_guard lock(mutex);
+  if (webhook) {
+    const WebhookCounters c = webhook->counters();
+    const std::string help = "Webhook alert deliveries, by result (failed_attempt counts every "
+                             "try; dropped: given up or pushed out of a full queue).";
+    samples.push_back({"codedrift_webhook_deliveries_total", help, true,
+                       {{"result", "delivered"}}, static_cast<double>(c.delivered)});
+    samples.push_back({"codedrift_webhook_deliveries_total", help, true,
+                       {{"result", "failed_attempt"}}, static_cast<double>(c.failed_attempts)});
+    samples.push_back(
+        {"codedrift_webhook_deliveries_total", help, true, {{"result", "dropped"}},
+         static_cast<double>(c.dropped_after_retries + c.dropped_queue_full)});
+    samples.push_back({"codedrift_webhook_queue", "Alerts waiting for webhook delivery.", false,
+                       {}, static_cast<double>(c.queued)});
+  }
+  return samples;
+}
+
+Result<WrittenProposal> Daemon::Impl::WriteProposal(ModelRuntime& model) {
   auto table = model.Retrain();
   if (!table.ok()) return table.error();
   auto written = proposals.Write(model.stream(), model.name(), std::move(table).value());
-  if (!written.ok()) return written.error();
+  if (!written.ok()) {
+    ++proposal_failures;
+    return written.error();
+  }
   model.SetLatestProposal(written.value().path);
   spdlog::info("{}/{}: proposal written to {} (checksum {})", model.stream(), model.name(),
                written.value().path, written.value().checksum);
-  return written.value().path;
+  return written.value();
 }
 
 Daemon::Daemon(DaemonConfig config, DaemonOptions options)
@@ -378,6 +487,15 @@ int Daemon::Run() {
                    stream->counters()->bytes_total.load());
     }
   }
+  {
+    std::lock_guard lock(d.mutex);
+    if (d.webhook) {
+      if (!d.webhook->WaitIdle(std::chrono::steady_clock::now() + std::chrono::seconds(2))) {
+        spdlog::warn("webhook: {} alert(s) not delivered before exit", d.webhook->counters().queued);
+      }
+      d.webhook->Stop();
+    }
+  }
   d.http->Stop();
   d.http->WaitStopped(std::chrono::steady_clock::now() + std::chrono::seconds(2));
   signals.cancel();
@@ -423,7 +541,14 @@ Result<std::string> Daemon::WriteProposalNow(const std::string& stream, const st
   if (!runtime) return Error{"no model " + stream + "/" + model};
   auto done = std::make_shared<std::promise<Result<std::string>>>();
   auto answer = done->get_future();
-  impl_->evaluation->Post([this, runtime, done] { done->set_value(impl_->WriteProposal(*runtime)); });
+  impl_->evaluation->Post([this, runtime, done] {
+    auto written = impl_->WriteProposal(*runtime);
+    if (written.ok()) {
+      done->set_value(written.value().path);
+    } else {
+      done->set_value(written.error());
+    }
+  });
   if (answer.wait_for(std::chrono::seconds(30)) != std::future_status::ready) {
     return Error{"the evaluation thread did not answer within 30 s"};
   }

@@ -21,8 +21,9 @@ using ModelList = std::vector<std::shared_ptr<ModelRuntime>>;
 // rare and lists are small).
 class StreamRuntime {
  public:
-  explicit StreamRuntime(StreamConfig config)
-      : config_(std::move(config)), counters_(std::make_shared<StreamCounters>()) {}
+  explicit StreamRuntime(StreamConfig config,
+                         std::shared_ptr<StreamCounters> counters = std::make_shared<StreamCounters>())
+      : config_(std::move(config)), counters_(std::move(counters)) {}
 
   // Hot path: every record goes to each model of the stream.
   void Deliver(std::string_view record) const {

@@ -130,6 +130,50 @@ TEST(DaemonControl, ReloadSwapsTablesKeepsCountsAndRejectsBadTables) {
   EXPECT_EQ(daemon.Stop(), 0);
 }
 
+// A free loopback port (bound, read, released): streams that must keep their address across a
+// reload cannot use port 0, which would re-bind elsewhere.
+uint16_t FreePort() {
+  const int fd = ::socket(AF_INET, SOCK_STREAM, 0);
+  sockaddr_in addr{};
+  addr.sin_family = AF_INET;
+  addr.sin_addr.s_addr = htonl(INADDR_LOOPBACK);
+  ::bind(fd, reinterpret_cast<sockaddr*>(&addr), sizeof addr);
+  socklen_t length = sizeof addr;
+  ::getsockname(fd, reinterpret_cast<sockaddr*>(&addr), &length);
+  ::close(fd);
+  return ntohs(addr.sin_port);
+}
+
+TEST(DaemonControl, ReloadWithNewStreamSettingsOnTheSameAddressKeepsCounting) {
+  TempDir dir;
+  dir.Write("token", kToken);
+  dir.Write("current.table", TableFor("abcd"));
+  std::string config = Config();
+  const std::string address = "tcp://127.0.0.1:" + std::to_string(FreePort());
+  config.replace(config.find("tcp://127.0.0.1:0"), 17, address);
+  DaemonProcess daemon(dir, config);
+  ASSERT_TRUE(daemon.WaitReady()) << daemon.Log();
+  const uint16_t port = daemon.stream_port("uplink");
+  SendTcp(port, "abcd\nabcd\n");
+  ASSERT_TRUE(WaitFor([&] {
+    return daemon.Metric("codedrift_records_total", {"stream=\"uplink\""}) == 2.0;
+  }));
+  // Same address, a smaller record limit: the listener is rebuilt, counts carry on.
+  std::string changed = config;
+  changed.replace(changed.find("    models:"), 0, "    max_record_bytes: 4\n    overlong: drop\n");
+  dir.Write("codedrift.yaml", changed);
+  daemon.Signal(SIGHUP);
+  ASSERT_TRUE(WaitFor([&] { return daemon.Log().find("reloaded") != std::string::npos; }))
+      << daemon.Log();
+  SendTcp(port, "abc\nabcdefgh\n");  // the second line is now overlong and dropped
+  EXPECT_TRUE(WaitFor([&] {
+    return daemon.Metric("codedrift_records_total", {"stream=\"uplink\""}) == 3.0 &&
+           daemon.Metric("codedrift_records_rejected_total",
+                         {"stream=\"uplink\"", "reason=\"overlong\""}) == 1.0;
+  })) << daemon.Log();
+  EXPECT_EQ(daemon.Stop(), 0);
+}
+
 TEST(DaemonControl, HttpErrorsAreSpecific) {
   TempDir dir;
   dir.Write("token", kToken);
@@ -164,6 +208,11 @@ TEST(DaemonControl, SigtermDrainsDataInFlight) {
   std::string lines;
   for (int i = 0; i < 5000; ++i) lines += "abcd\n";
   ASSERT_EQ(::send(fd, lines.data(), lines.size(), 0), static_cast<ssize_t>(lines.size()));
+  // The daemon has accepted the connection (a connection still in the kernel's backlog is
+  // not the daemon's yet); its data may or may not have been read.
+  ASSERT_TRUE(WaitFor([&] {
+    return daemon.Metric("codedrift_connections", {"stream=\"uplink\""}) == 1.0;
+  }));
   EXPECT_EQ(daemon.Stop(SIGTERM), 0) << daemon.Log();
   ::close(fd);
   EXPECT_NE(daemon.Log().find("uplink: 5000 records"), std::string::npos) << daemon.Log();
