@@ -4,6 +4,7 @@
 #include <iostream>
 
 #include "cli_common.h"
+#include "compare.h"
 #include "synth.h"
 
 int main(int argc, char** argv) {
@@ -25,6 +26,7 @@ int main(int argc, char** argv) {
   AddCheckCommand(app, exit_code);
   AddCodesCommand(app, exit_code);
   AddInspectCommand(app, exit_code);
+  AddCompareCommand(app, exit_code);
   AddReplayCommand(app, exit_code);
   AddSynthCommand(app, exit_code);
   try {

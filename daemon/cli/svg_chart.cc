@@ -66,6 +66,8 @@ int TickStep(double range) {
 
 }  // namespace
 
+std::string SvgEscape(const std::string& text) { return Escape(text); }
+
 std::string RenderLengthChart(const LengthChart& chart) {
   std::vector<ChartPoint> points;
   for (const ChartPoint& point : chart.points) {

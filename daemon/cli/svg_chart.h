@@ -27,4 +27,8 @@ inline constexpr size_t kMaxChartPoints = 4096;
 
 std::string RenderLengthChart(const LengthChart& chart);
 
+// Text made safe for SVG (XML 1.0) content and attribute values: markup characters as
+// entities, control bytes and bytes above 0x7f as '?' (a token need not be UTF-8).
+std::string SvgEscape(const std::string& text);
+
 }  // namespace codedrift::cli
