@@ -28,6 +28,7 @@ equal the names in daemon/src/*.cc, and every family the running daemon exports 
 the documented model JSON fields equal what the running daemon returns.
 """
 import argparse
+import ctypes
 import glob
 import json
 import os
@@ -42,6 +43,12 @@ import urllib.request
 
 COMMAND_TIMEOUT = 180
 FENCE = re.compile(r"^```(.*)$")
+
+
+def die_with_parent():
+    """In the daemon's child process: SIGTERM when this test dies (e.g. killed by a timeout)."""
+    pr_set_pdeathsig = 1
+    ctypes.CDLL("libc.so.6", use_errno=True).prctl(pr_set_pdeathsig, signal.SIGTERM)
 
 
 class Block:
@@ -204,7 +211,7 @@ class Session:
         self.daemon = subprocess.Popen(
             [os.path.join(self.args.bin_dir, "codedriftd"), "--config", test_config,
              "--ready-file", ready], cwd=self.dir, env=self.env, stdout=self.daemon_log,
-            stderr=subprocess.STDOUT, stdin=subprocess.DEVNULL)
+            stderr=subprocess.STDOUT, stdin=subprocess.DEVNULL, preexec_fn=die_with_parent)
         deadline = time.monotonic() + 30
         while not os.path.exists(ready) and self.daemon.poll() is None:
             if time.monotonic() > deadline:
