@@ -104,11 +104,19 @@ Evaluation ModelEvaluator::Evaluate(const ModelSample& sample, const CodeTable* 
   }
   SymbolCounts window_counts = ToSymbolCounts(alphabet, sample.keys, whole);
 
-  // Rates since the previous evaluation.
+  // Seconds since the previous evaluation (for the unknown-symbol rate).
   const double seconds = first_ ? 0 : std::chrono::duration<double>(e.at - last_at_).count();
-  if (seconds > 0) {
-    e.symbols_per_second = static_cast<double>(sample.symbols_total - last_symbols_) / seconds;
-    e.records_per_second = static_cast<double>(sample.records_total - last_records_) / seconds;
+  // Rates over a horizon of several evaluations: one quiet interval on a bursty link must not
+  // read as "no traffic" (payback, and so the alert, would flicker).
+  rate_points_.push_back({e.at, sample.symbols_total, sample.records_total});
+  while (rate_points_.size() > 2 && e.at - rate_points_[1].at >= kRateHorizon) {
+    rate_points_.pop_front();
+  }
+  const RatePoint& oldest = rate_points_.front();
+  const double horizon = std::chrono::duration<double>(e.at - oldest.at).count();
+  if (horizon > 0) {
+    e.symbols_per_second = static_cast<double>(sample.symbols_total - oldest.symbols) / horizon;
+    e.records_per_second = static_cast<double>(sample.records_total - oldest.records) / horizon;
   }
 
   if (table != nullptr) {

@@ -5,6 +5,7 @@
 #include <chrono>
 #include <cmath>
 #include <cstdint>
+#include <deque>
 #include <optional>
 #include <string>
 #include <vector>
@@ -91,6 +92,15 @@ class ModelEvaluator {
   uint64_t unknown_total_ = 0;
   bool first_ = true;
   std::optional<SymbolCounts> last_window_;
+
+  // (time, symbols_total, records_total) of recent evaluations for rates over kRateHorizon.
+  struct RatePoint {
+    std::chrono::nanoseconds at;
+    uint64_t symbols;
+    uint64_t records;
+  };
+  static constexpr std::chrono::seconds kRateHorizon{60};
+  std::deque<RatePoint> rate_points_;
 };
 
 }  // namespace codedrift
