@@ -85,6 +85,19 @@ echo "  goals (DESIGN.md section 7): inspect bytes >= 0.5x wc -l; tokens >= 150 
 # against a plain receiver, stop the daemon.
 # ---------------------------------------------------------------------------------------------
 
+# Daemon ingest (TCP 1 and 16 connections, bytes and tokens models, against a plain
+# recv-and-discard receiver run interleaved with it), UDP rate without loss, RSS per model.
+# BENCH_INGEST_MIB: bytes per TCP run (default: the capture).
+ingest_load=$(find "$build" -name ingest_load -type f -perm -u+x 2>/dev/null | head -n 1)
+if [ -n "$ingest_load" ]; then
+  echo
+  echo "daemon benchmarks: $ingest_load suite $capture --mib ${BENCH_INGEST_MIB:-$mib} --runs $runs"
+  "$ingest_load" suite "$capture" --mib "${BENCH_INGEST_MIB:-$mib}" --runs "$runs"
+else
+  echo
+  echo "ingest_load is not built; skipping the daemon benchmarks"
+fi
+
 bench_bin=$(find "$build" -name codedrift_bench -type f -perm -u+x 2>/dev/null | head -n 1)
 if [ -n "$bench_bin" ]; then
   echo

@@ -1,0 +1,174 @@
+// Per-evaluation and per-record costs of a model, against a same-run memcpy baseline:
+// Evaluate at K = 256 (bytes) and K = 65,536 (tokens) over a full 1M-symbol window, the Sample
+// copy taken under the model's lock, and Ingest per record.
+#include <algorithm>
+#include <cmath>
+#include <cstdio>
+#include <cstring>
+#include <memory>
+#include <random>
+#include <string>
+#include <vector>
+
+#include <benchmark/benchmark.h>
+
+#include "codedrift/clock.h"
+#include "codedrift/code_table.h"
+#include "codedrift/evaluator.h"
+#include "codedrift/model.h"
+
+namespace codedrift {
+namespace {
+
+constexpr uint64_t kWindow = 1 << 20;
+constexpr uint32_t kDistinctTokens = 65535;  // plus the end-of-record symbol: K = 65,536
+
+// Invented telemetry from river gauges: one key=value line per reading, seeded.
+std::vector<std::string> GaugeLines(size_t target_bytes) {
+  std::mt19937_64 rng(20240611);
+  std::uniform_int_distribution<int> gauge(1, 60), level(120, 480), flow(0, 9999), pct(0, 99);
+  std::vector<std::string> lines;
+  size_t bytes = 0;
+  long long t = 1718064000;
+  char line[192];
+  while (bytes < target_bytes) {
+    t += 1 + pct(rng) % 4;
+    const int n = std::snprintf(line, sizeof line,
+                                "ts=%lld gauge=g%02d level_cm=%d flow_ls=%d.%d batt=%d status=%s\n",
+                                t, gauge(rng), level(rng), flow(rng) / 10, flow(rng) % 10,
+                                330 + pct(rng), pct(rng) < 95 ? "ok" : "silt_alarm");
+    lines.emplace_back(line, static_cast<size_t>(n));
+    bytes += static_cast<size_t>(n);
+  }
+  return lines;
+}
+
+// Records of 15 tokens over kDistinctTokens texts: every 8th token walks through all of them
+// (so each is in the window at least twice), the rest are skewed (Zipf-like) as in real fleets.
+std::vector<std::string> TokenRecords(uint64_t symbols) {
+  std::mt19937_64 rng(65536);
+  std::vector<double> weights(kDistinctTokens);
+  for (uint32_t r = 0; r < kDistinctTokens; ++r) weights[r] = 1.0 / (r + 1.0);
+  std::discrete_distribution<uint32_t> zipf(weights.begin(), weights.end());
+  std::vector<std::string> records;
+  uint32_t walk = 0;
+  uint64_t made = 0;
+  char token[16];
+  while (made < symbols) {
+    std::string record;
+    for (int i = 0; i < 15; ++i) {
+      const uint32_t id = i % 8 == 0 ? walk++ % kDistinctTokens : zipf(rng);
+      std::snprintf(token, sizeof token, i == 0 ? "t%x" : " t%x", id);
+      record += token;
+    }
+    record += '\n';
+    records.push_back(std::move(record));
+    made += 16;  // 15 tokens and the end of record
+  }
+  return records;
+}
+
+SymbolizerSpec BytesSpec() { return SymbolizerSpec{.kind = AlphabetKind::kBytes}; }
+
+SymbolizerSpec TokensSpec(bool mask_digits) {
+  SymbolizerSpec spec{.kind = AlphabetKind::kTokens};
+  spec.tokens.mask_digits = mask_digits;
+  return spec;
+}
+
+// A model with a full 1M-symbol window and a deployed table trained on that window (the
+// daemon's usual state), plus the evaluator that measures it. Built once per K.
+struct Fixture {
+  SteadyClock clock;
+  std::unique_ptr<Model> model;
+  std::unique_ptr<ModelEvaluator> evaluator;
+  std::optional<CodeTable> table;
+  ModelSample sample;
+
+  explicit Fixture(bool tokens) {
+    model = std::make_unique<Model>(tokens ? TokensSpec(false) : BytesSpec(),
+                                    WindowSpec{.symbols = kWindow}, clock);
+    for (const auto& record :
+         tokens ? TokenRecords(kWindow + kWindow / 8) : GaugeLines(kWindow + kWindow / 8)) {
+      model->Ingest(record);
+    }
+    evaluator = std::make_unique<ModelEvaluator>(EvaluationOptions{});
+    sample = model->Sample();
+    evaluator->Evaluate(sample, nullptr);
+    auto trained = TrainPrefixTable(*evaluator->last_window_counts(), tokens ? 20 : 15, 8);
+    if (trained.ok()) table = std::move(trained).value();
+  }
+
+  size_t distinct() const { return evaluator->last_window_counts()->map().size(); }
+};
+
+Fixture& FixtureFor(int64_t k) {
+  static Fixture bytes(false);
+  static Fixture tokens(true);
+  return k > 256 ? tokens : bytes;
+}
+
+void BM_Evaluator_Evaluate(benchmark::State& state) {
+  Fixture& f = FixtureFor(state.range(0));
+  if (!f.table) return state.SkipWithError("could not train the deployed table");
+  for (auto _ : state) {
+    Evaluation e = f.evaluator->Evaluate(f.sample, &*f.table);
+    benchmark::DoNotOptimize(e);
+  }
+  state.counters["ids"] = static_cast<double>(f.sample.keys.size());  // K: dense count vectors
+  state.counters["distinct"] = static_cast<double>(f.distinct());
+  state.counters["window"] = static_cast<double>(f.sample.window->size());
+}
+BENCHMARK(BM_Evaluator_Evaluate)->Arg(256)->Arg(65536)->Unit(benchmark::kMillisecond);
+
+void BM_Model_Sample(benchmark::State& state) {
+  Fixture& f = FixtureFor(state.range(0));
+  for (auto _ : state) {
+    ModelSample sample = f.model->Sample();
+    benchmark::DoNotOptimize(sample);
+  }
+  state.counters["ids"] = static_cast<double>(f.sample.keys.size());
+}
+BENCHMARK(BM_Model_Sample)->Arg(256)->Arg(65536)->Unit(benchmark::kMicrosecond);
+
+// Arg 0: bytes model; 1: tokens model (digits masked, as the default config has it).
+void BM_Model_Ingest(benchmark::State& state) {
+  static const std::vector<std::string> lines = GaugeLines(8 << 20);
+  SteadyClock clock;
+  Model model(state.range(0) == 0 ? BytesSpec() : TokensSpec(true), WindowSpec{.symbols = kWindow},
+              clock);
+  size_t bytes = 0;
+  for (const auto& line : lines) bytes += line.size();
+  for (auto _ : state) {
+    for (const auto& line : lines) model.Ingest(line);
+  }
+  state.SetBytesProcessed(static_cast<int64_t>(state.iterations() * bytes));
+  state.SetItemsProcessed(static_cast<int64_t>(state.iterations() * lines.size()));
+  state.SetLabel(state.range(0) == 0 ? "bytes" : "tokens");
+}
+BENCHMARK(BM_Model_Ingest)->Arg(0)->Arg(1)->Unit(benchmark::kMillisecond);
+
+// The least a window can do with a record: copy it into a 1 MiB ring.
+void BM_Memcpy_Baseline(benchmark::State& state) {
+  static const std::vector<std::string> lines = GaugeLines(8 << 20);
+  std::vector<char> ring(kWindow);
+  size_t bytes = 0;
+  for (const auto& line : lines) bytes += line.size();
+  for (auto _ : state) {
+    size_t head = 0;
+    for (const auto& line : lines) {
+      const size_t first = std::min(line.size(), ring.size() - head);
+      std::memcpy(ring.data() + head, line.data(), first);
+      std::memcpy(ring.data(), line.data() + first, line.size() - first);
+      head = (head + line.size()) % ring.size();
+    }
+    benchmark::DoNotOptimize(ring.data());
+    benchmark::ClobberMemory();
+  }
+  state.SetBytesProcessed(static_cast<int64_t>(state.iterations() * bytes));
+  state.SetItemsProcessed(static_cast<int64_t>(state.iterations() * lines.size()));
+}
+BENCHMARK(BM_Memcpy_Baseline)->Unit(benchmark::kMillisecond);
+
+}  // namespace
+}  // namespace codedrift
