@@ -3,7 +3,7 @@
 set -euo pipefail
 packages=(cmake g++ make libboost-dev prometheus-cpp-dev libyaml-cpp-dev zlib1g-dev
           nlohmann-json3-dev libcli11-dev libspdlog-dev libfmt-dev libgtest-dev libgmock-dev libbenchmark-dev curl
-          prometheus chromium python3 iproute2 procps)
+          prometheus chromium python3 iproute2 procps systemd)
 missing=()
 for p in "${packages[@]}"; do
   dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || missing+=("$p")
