@@ -7,6 +7,7 @@
 #include <future>
 #include <cmath>
 #include <map>
+#include <set>
 #include <unistd.h>
 
 #include <boost/asio/io_context.hpp>
@@ -74,6 +75,7 @@ struct Daemon::Impl {
   void Notify(ModelRuntime& model, const StateChange& change,
               const std::optional<WrittenProposal>& proposal);
   void ReplaceWebhook(const std::optional<WebhookConfig>& next);
+  void RetryProposal(ModelRuntime& model);
   std::vector<ProcessSample> ProcessSamples() const;
   nlohmann::json Ports() const;
 
@@ -92,6 +94,9 @@ struct Daemon::Impl {
   std::unique_ptr<WebhookSink> webhook;          // null when alerts.webhook is not set
   std::optional<WebhookConfig> webhook_config;   // what `webhook` was built from
   std::atomic<uint64_t> proposal_failures{0};
+  // Models whose alert proposal could not be written (full disk, ...): retried at every
+  // evaluation while they stay stale. Evaluation thread only.
+  std::set<std::pair<std::string, std::string>> proposal_retries;
 
   std::unique_ptr<HttpServer> http;
   std::unique_ptr<EvaluationLoop> evaluation;
@@ -115,7 +120,7 @@ Status Daemon::Impl::Apply(const DaemonConfig& next, bool initial) {
   for (const StreamConfig& stream : next.streams) {
     ModelList models;
     for (const ModelConfig& model : stream.models) {
-      auto runtime = std::make_shared<ModelRuntime>(stream.name, model, clock);
+      auto runtime = std::make_shared<ModelRuntime>(stream.name, model, clock, next.evaluate_every);
       if (auto loaded = runtime->LoadTable(); !loaded.ok()) return loaded.error();
       models.push_back(std::move(runtime));
     }
@@ -285,6 +290,7 @@ void Daemon::Impl::EvaluateAll() {
   for (const auto& stream : current) {
     for (const auto& model : stream->models()) {
       if (auto change = model->Evaluate()) OnStateChange(*model, *change);
+      RetryProposal(*model);
       evaluated.push_back(model);
     }
   }
@@ -294,6 +300,16 @@ void Daemon::Impl::EvaluateAll() {
       std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count());
   metrics.UpdateProcess(ProcessSamples());
   PublishMetrics();
+}
+
+void Daemon::Impl::RetryProposal(ModelRuntime& model) {
+  const auto key = std::make_pair(model.stream(), model.name());
+  if (!proposal_retries.count(key)) return;
+  if (model.View().state != CodeState::kStale) {
+    proposal_retries.erase(key);  // the alert is over: nothing to propose any more
+  } else if (WriteProposal(model).ok()) {
+    proposal_retries.erase(key);
+  }
 }
 
 void Daemon::Impl::OnStateChange(ModelRuntime& model, const StateChange& change) {
@@ -311,8 +327,9 @@ void Daemon::Impl::OnStateChange(ModelRuntime& model, const StateChange& change)
   if (auto written = WriteProposal(model); written.ok()) {
     proposal = written.value();
   } else {
-    spdlog::error("{}/{}: proposal not written (will retry with the next alert or on demand): {}",
+    spdlog::error("{}/{}: proposal not written, retrying at every evaluation while stale: {}",
                   model.stream(), model.name(), written.error().message);
+    proposal_retries.insert({model.stream(), model.name()});
   }
   Notify(model, change, proposal);
 }

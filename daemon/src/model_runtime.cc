@@ -6,9 +6,23 @@
 namespace codedrift {
 namespace {
 
-constexpr size_t kHistoryFine = 24 * 3600 / 5;  // a day at the default 5 s interval
-constexpr size_t kHistoryCoarseEvery = 12;      // then one point a minute
-constexpr size_t kHistoryCoarse = 6 * 24 * 60;  // for six more days
+// History keeps every evaluation of the last day, then one point a minute for six more days.
+constexpr auto kHistoryFineSpan = std::chrono::hours(24);
+constexpr auto kHistoryCoarseStep = std::chrono::minutes(1);
+constexpr size_t kHistoryCoarse = 6 * 24 * 60;
+constexpr size_t kHistoryMaxFine = 1'000'000;  // bounds memory at very short intervals
+
+History MakeHistory(std::chrono::milliseconds evaluate_every) {
+  const int64_t interval_ms = std::max<int64_t>(evaluate_every.count(), 1);
+  const auto fine = static_cast<size_t>(
+      std::chrono::duration_cast<std::chrono::milliseconds>(kHistoryFineSpan).count() /
+      interval_ms);
+  const auto coarse_every = static_cast<size_t>(std::max<int64_t>(
+      std::chrono::duration_cast<std::chrono::milliseconds>(kHistoryCoarseStep).count() /
+          interval_ms,
+      1));
+  return History(std::min(fine, kHistoryMaxFine), coarse_every, kHistoryCoarse);
+}
 
 double UnixNow() {
   return std::chrono::duration<double>(std::chrono::system_clock::now().time_since_epoch())
@@ -64,7 +78,8 @@ EvaluationOptions OptionsFor(const ModelConfig& config) {
 
 }  // namespace
 
-ModelRuntime::ModelRuntime(std::string stream, ModelConfig config, const Clock& clock)
+ModelRuntime::ModelRuntime(std::string stream, ModelConfig config, const Clock& clock,
+                           std::chrono::milliseconds evaluate_every)
     : stream_(std::move(stream)),
       config_(std::move(config)),
       clock_(clock),
@@ -72,7 +87,7 @@ ModelRuntime::ModelRuntime(std::string stream, ModelConfig config, const Clock& 
                                      ToWindowSpec(config_.window), clock)),
       evaluator_(OptionsFor(config_)),
       state_machine_(ToStateRule(config_.alert)),
-      history_(kHistoryFine, kHistoryCoarseEvery, kHistoryCoarse) {}
+      history_(MakeHistory(evaluate_every)) {}
 
 Status ModelRuntime::LoadTable() {
   if (config_.table.empty()) {

@@ -48,7 +48,9 @@ inline constexpr size_t kMaxExportedSymbols = 4096;
 
 class ModelRuntime {
  public:
-  ModelRuntime(std::string stream, ModelConfig config, const Clock& clock);
+  // `evaluate_every` sizes the history (a day of evaluations, then one point a minute).
+  ModelRuntime(std::string stream, ModelConfig config, const Clock& clock,
+               std::chrono::milliseconds evaluate_every);
 
   // Hot path, any thread.
   void Ingest(std::string_view record) { model_->Ingest(record); }

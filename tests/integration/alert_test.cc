@@ -6,6 +6,7 @@
 #include <atomic>
 #include <cmath>
 #include <csignal>
+#include <filesystem>
 #include <thread>
 
 #include "../unit/webhook_receiver.h"
@@ -149,6 +150,50 @@ TEST(Alerts, FirmwareRolloutGoesStaleOnceWithAProposalThatKeepsItsPromise) {
     return model.is_object() && model["state"] == "fit";
   })) << model.dump(1);
   EXPECT_EQ(receiver.received().size(), 1u);
+  EXPECT_EQ(daemon.Stop(), 0);
+}
+
+// The state dir below a regular file (ENOTDIR; chmod would not stop root in CI): the alert
+// still fires, the failed proposal is logged, counted and retried, and once the state dir can
+// be created the retry writes it.
+TEST(Alerts, UnwritableStateDirIsCountedAndRetried) {
+  TempDir dir;
+  TrainDeployedTable(dir);
+  dir.Write("blocker", "a file where the state dir should be\n");
+  webhook_test::Receiver receiver;
+  std::string config = Config(receiver.port(),
+                              "{saving: 5%, for: 0s, min_symbols: 100000, cooldown: 1h, "
+                              "max_payback: 1d}");
+  config.replace(config.find("state_dir: state"), 16, "state_dir: blocker/state");
+  DaemonProcess daemon(dir, config);
+  ASSERT_TRUE(daemon.WaitReady()) << daemon.Log();
+  const uint16_t port = daemon.stream_port("radio");
+  SendTcp(port, Synth("spring-baseline", 2));
+  const std::string shifted = Synth("probe-firmware-3", 3);
+  std::atomic<bool> stop{false};
+  std::thread sender([&] {
+    while (!stop) SendTcp(port, shifted.substr(0, 200000));
+  });
+  const bool failed = WaitFor(
+      [&] { return daemon.Metric("codedrift_proposal_failures_total").value_or(0) >= 2.0; },
+      std::chrono::seconds(60));
+  ASSERT_TRUE(failed) << daemon.Log();
+  EXPECT_NE(daemon.Log().find("proposal not written"), std::string::npos);
+  EXPECT_EQ(HttpCall(daemon.http_port(), "GET", "/api/v1/models/radio/bytes/proposal").status,
+            404);
+  ASSERT_TRUE(receiver.WaitForRequests(1));
+  EXPECT_TRUE(nlohmann::json::parse(receiver.received()[0].body)["proposal"].is_null());
+
+  // Make the state dir creatable: the next retry writes the proposal.
+  std::filesystem::remove(dir.File("blocker"));
+  std::filesystem::create_directory(dir.File("blocker"));
+  const bool written = WaitFor([&] {
+    return HttpCall(daemon.http_port(), "GET", "/api/v1/models/radio/bytes/proposal").status ==
+           200;
+  });
+  stop = true;
+  sender.join();
+  EXPECT_TRUE(written) << daemon.Log();
   EXPECT_EQ(daemon.Stop(), 0);
 }
 
