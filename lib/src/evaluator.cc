@@ -199,6 +199,9 @@ void ModelEvaluator::ImportState(EvaluatorState state) {
   unknown_total_ = state.unknown_total;
   last_cumulative_ = std::move(state.last_cumulative);
   last_window_.reset();
+  // Checkpoints keep only the last evaluation: rates restart from it.
+  rate_points_.clear();
+  if (state.evaluated) rate_points_.push_back({last_at_, last_symbols_, last_records_});
 }
 
 }  // namespace codedrift
