@@ -2,12 +2,48 @@
 
 #include <atomic>
 #include <cstdint>
+#include <string_view>
 
 namespace codedrift {
 
-bool ConnectionFramer::Feed(std::string_view chunk, const RecordHandler& handler) {
+bool ConnectionFramer::Feed(std::string_view chunk, const RecordHandler& handler,
+                            const RunHandler& run_handler) {
   if (auto* lines = std::get_if<LineFramer>(&framer_)) {
-    lines->Feed(chunk, handler);
+    if (!run_handler) {
+      lines->Feed(chunk, handler);
+      return true;
+    }
+    // Whole lines inside `chunk` follow one another with no gap, so a run is a start, an end
+    // and a count. A line completed from earlier chunks (in the framer's carry buffer) or a
+    // truncated one ends the run and goes out on its own, so the order is kept.
+    const auto chunk_begin = reinterpret_cast<uintptr_t>(chunk.data());
+    const uintptr_t chunk_end = chunk_begin + chunk.size();
+    const char* run_begin = nullptr;
+    const char* run_end = nullptr;
+    uint64_t run_records = 0;
+    const auto flush = [&] {
+      if (run_records == 0) return;
+      run_handler(std::string_view(run_begin, static_cast<size_t>(run_end - run_begin)),
+                  run_records);
+      run_records = 0;
+    };
+    lines->Feed(chunk, [&](std::string_view record) {
+      const auto at = reinterpret_cast<uintptr_t>(record.data());
+      const bool whole_in_chunk = at >= chunk_begin && at + record.size() <= chunk_end &&
+                                  !record.empty() && record.back() == '\n';
+      if (!whole_in_chunk) {
+        flush();
+        handler(record);
+        return;
+      }
+      if (run_records == 0 || record.data() != run_end) {
+        flush();
+        run_begin = record.data();
+      }
+      run_end = record.data() + record.size();
+      ++run_records;
+    });
+    flush();
     return true;
   }
   return std::get<LengthPrefixFramer>(framer_).Feed(chunk, handler);

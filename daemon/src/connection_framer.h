@@ -20,8 +20,10 @@ class ConnectionFramer {
  public:
   explicit ConnectionFramer(const StreamConfig& config) : framer_(Make(config)) {}
 
-  // Returns false once the framing is lost (oversized length prefix).
-  bool Feed(std::string_view chunk, const RecordHandler& handler);
+  // Returns false once the framing is lost (oversized length prefix). With `run_handler` set,
+  // whole lines lying back to back in `chunk` go to it as runs (lines framing only).
+  bool Feed(std::string_view chunk, const RecordHandler& handler,
+            const RunHandler& run_handler = nullptr);
   // The connection ended: delivers an unterminated last line, counts a cut-off frame.
   void Finish(const RecordHandler& handler);
 

@@ -108,7 +108,8 @@ std::unique_ptr<StreamListener> Daemon::Impl::MakeListener(
   return std::make_unique<StreamListener>(
       io, runtime->config(), runtime->counters(),
       [runtime](std::string_view record) { runtime->Deliver(record); },
-      [](std::string_view line) { spdlog::info("{}", line); });
+      [](std::string_view line) { spdlog::info("{}", line); },
+      [runtime](std::string_view run, uint64_t records) { runtime->DeliverRun(run, records); });
 }
 
 Status Daemon::Impl::Apply(const DaemonConfig& next, bool initial) {

@@ -18,6 +18,7 @@ namespace codedrift {
 struct ListenerContext {
   StreamConfig config;
   RecordHandler handler;
+  RunHandler run_handler;  // may be empty
   std::shared_ptr<StreamCounters> counters;
   ListenerLog log;
 

@@ -54,6 +54,7 @@ class ModelRuntime {
 
   // Hot path, any thread.
   void Ingest(std::string_view record) { model_->Ingest(record); }
+  void IngestRun(std::string_view run, uint64_t records) { model_->IngestRun(run, records); }
 
   // Loads the configured table (if any). On error the previous table stays and the error is
   // returned; a table the daemon cannot deploy (uncovered symbols, no escape) is refused.

@@ -88,7 +88,8 @@ class Connection : public std::enable_shared_from_this<Connection<Protocol>> {
     if (n > 0) {
       counters.bytes_total.fetch_add(n, std::memory_order_relaxed);
       last_read_ = std::chrono::steady_clock::now();
-      const bool framed = framer_.Feed(std::string_view(buffer_.get(), n), context_.handler);
+      const bool framed =
+          framer_.Feed(std::string_view(buffer_.get(), n), context_.handler, context_.run_handler);
       framer_.Publish(counters);
       if (!framed) return Finish(ConnectionCloseReason::kFramingLost);
     }

@@ -9,10 +9,11 @@ namespace codedrift {
 
 StreamListener::StreamListener(boost::asio::io_context& io, const StreamConfig& config,
                                std::shared_ptr<StreamCounters> counters, RecordHandler handler,
-                               ListenerLog log) {
+                               ListenerLog log, RunHandler run_handler) {
   auto context = std::make_shared<ListenerContext>();
   context->config = config;
   context->handler = std::move(handler);
+  context->run_handler = std::move(run_handler);
   context->counters = std::move(counters);
   context->log = log ? std::move(log) : [](std::string_view line) { std::clog << line << '\n'; };
   if (config.listen.scheme == ListenScheme::kUdp) {

@@ -24,6 +24,10 @@ namespace codedrift {
 // Receives every record of the stream (for `lines`, the terminating newline included). The view
 // is valid during the call only. Called from io threads, possibly from several at once.
 using RecordHandler = std::function<void(std::string_view record)>;
+// Optional, `lines` framing only: receives `records` whole records (each ending in '\n') lying
+// back to back in one receive buffer, in one call instead of one call each. Records that are
+// not whole in that buffer still go to the RecordHandler, in order with the runs.
+using RunHandler = std::function<void(std::string_view run, uint64_t records)>;
 // Receives one human-readable log line (bind results, receive-buffer grants, failures).
 using ListenerLog = std::function<void(std::string_view line)>;
 
@@ -49,7 +53,7 @@ class StreamListener {
   // `counters` must not be null; the config is copied. Without `log`, lines go to std::clog.
   StreamListener(boost::asio::io_context& io, const StreamConfig& config,
                  std::shared_ptr<StreamCounters> counters, RecordHandler handler,
-                 ListenerLog log = nullptr);
+                 ListenerLog log = nullptr, RunHandler run_handler = nullptr);
   ~StreamListener();
   StreamListener(const StreamListener&) = delete;
   StreamListener& operator=(const StreamListener&) = delete;

@@ -30,6 +30,11 @@ class StreamRuntime {
     const ModelList* models = models_.load(std::memory_order_acquire);
     for (const auto& model : *models) model->Ingest(record);
   }
+  // Hot path for `lines` framing: whole records back to back (see Model::IngestRun).
+  void DeliverRun(std::string_view run, uint64_t records) const {
+    const ModelList* models = models_.load(std::memory_order_acquire);
+    for (const auto& model : *models) model->IngestRun(run, records);
+  }
 
   void SetModels(ModelList models) {
     std::lock_guard lock(mutex_);

@@ -83,6 +83,29 @@ void Model::Ingest(std::string_view record) {
   symbols_total_ += scratch_ids_.size();
 }
 
+void Model::IngestRun(std::string_view run, uint64_t records) {
+  std::lock_guard lock(mutex_);
+  records_total_ += records;
+  if (raw_bytes_) {
+    CountBytes(run, byte_counts_);
+    window_->PushBytes({reinterpret_cast<const uint8_t*>(run.data()), run.size()});
+    symbols_total_ += run.size();
+    return;
+  }
+  scratch_ids_.clear();
+  while (!run.empty()) {
+    const size_t end = run.find('\n');
+    const size_t length = end == std::string_view::npos ? run.size() : end + 1;
+    symbolizer_->Append(run.substr(0, length), scratch_ids_);
+    run.remove_prefix(length);
+  }
+  const SymbolId limit = symbolizer_->IdLimit();
+  if (cumulative_.size() < limit) cumulative_.resize(limit, 0);
+  for (SymbolId id : scratch_ids_) ++cumulative_[id];
+  window_->PushIds(scratch_ids_);
+  symbols_total_ += scratch_ids_.size();
+}
+
 ModelSample Model::Sample() {
   ModelSample sample;
   sample.alphabet = symbolizer_spec_.alphabet();
