@@ -1,6 +1,6 @@
 // Per-evaluation and per-record costs of a model, against a same-run memcpy baseline:
 // Evaluate at K = 256 (bytes) and K = 65,536 (tokens) over a full 1M-symbol window, the Sample
-// copy taken under the model's lock, and Ingest per record.
+// copy taken under the model's lock, and Ingest per record or per received buffer's run.
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
@@ -8,6 +8,7 @@
 #include <memory>
 #include <random>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include <benchmark/benchmark.h>
@@ -147,6 +148,33 @@ void BM_Model_Ingest(benchmark::State& state) {
   state.SetLabel(state.range(0) == 0 ? "bytes" : "tokens");
 }
 BENCHMARK(BM_Model_Ingest)->Arg(0)->Arg(1)->Unit(benchmark::kMillisecond);
+
+// The daemon's path for `lines` framing: the whole lines of each 64 KiB received buffer as one
+// run (Model::IngestRun), against one Ingest call per line above.
+void BM_Model_IngestRun(benchmark::State& state) {
+  static const std::vector<std::string> lines = GaugeLines(8 << 20);
+  static const auto runs = [] {
+    std::vector<std::pair<std::string, uint64_t>> out(1);
+    for (const auto& line : lines) {
+      if (out.back().first.size() + line.size() > 65536) out.emplace_back();
+      out.back().first += line;
+      ++out.back().second;
+    }
+    return out;
+  }();
+  SteadyClock clock;
+  Model model(state.range(0) == 0 ? BytesSpec() : TokensSpec(true), WindowSpec{.symbols = kWindow},
+              clock);
+  size_t bytes = 0;
+  for (const auto& line : lines) bytes += line.size();
+  for (auto _ : state) {
+    for (const auto& [run, records] : runs) model.IngestRun(run, records);
+  }
+  state.SetBytesProcessed(static_cast<int64_t>(state.iterations() * bytes));
+  state.SetItemsProcessed(static_cast<int64_t>(state.iterations() * lines.size()));
+  state.SetLabel(state.range(0) == 0 ? "bytes" : "tokens");
+}
+BENCHMARK(BM_Model_IngestRun)->Arg(0)->Arg(1)->Unit(benchmark::kMillisecond);
 
 // The least a window can do with a record: copy it into a 1 MiB ring.
 void BM_Memcpy_Baseline(benchmark::State& state) {
