@@ -4,6 +4,7 @@
 // baseline is as plain as a receiver gets.
 #pragma once
 
+#include <algorithm>
 #include <atomic>
 #include <cstdint>
 #include <memory>

@@ -195,8 +195,9 @@ bool RunRssSuite(const Capture& capture, const SuiteOptions& /*options*/) {
     for (int i = 0; i < 2; ++i) {
       const int models = i == 0 ? 1 : kMany;
       BenchStream stream{.name = "rss"};
-      for (int m = 0; m < models; ++m)
+      for (int m = 0; m < models; ++m) {
         stream.models.push_back({std::string("m").append(std::to_string(m)), kind});
+      }
       BenchDaemon daemon(DaemonConfigText({stream}, "200ms"));
       if (auto ready = daemon.WaitReady(); !ready.ok()) {
         std::fprintf(stderr, "%s\n", ready.error().message.c_str());
@@ -222,9 +223,11 @@ bool RunRssSuite(const Capture& capture, const SuiteOptions& /*options*/) {
       peak[i] = daemon.PeakRssBytes();
       daemon.Stop();
     }
-    const double per_model = (static_cast<double>(rss[1]) - static_cast<double>(rss[0])) / 8 / 1e6;
-    const double peak_per_model =
-        (static_cast<double>(peak[1]) - static_cast<double>(peak[0])) / 8 / 1e6;
+    const auto per_extra_model = [](const uint64_t(&bytes)[2]) {
+      return (static_cast<double>(bytes[1]) - static_cast<double>(bytes[0])) / (kMany - 1) / 1e6;
+    };
+    const double per_model = per_extra_model(rss);
+    const double peak_per_model = per_extra_model(peak);
     std::printf("  %-6s 1 model %6.1f MB, %d models %6.1f MB: %5.2f MB per model (peak %5.2f)%s\n",
                 ModelKindName(kind), static_cast<double>(rss[0]) / 1e6, kMany,
                 static_cast<double>(rss[1]) / 1e6, per_model, peak_per_model,
