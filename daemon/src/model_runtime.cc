@@ -43,6 +43,7 @@ SymbolizerSpec ToSymbolizerSpec(const SymbolsConfig& symbols) {
   spec.block = symbols.block;
   spec.tokens = symbols.tokens;
   spec.field = symbols.field;
+  spec.bytes = symbols.bytes;
   return spec;
 }
 

@@ -68,7 +68,21 @@ uint64_t Alphabet::Size() const {
   return 0;
 }
 
+bool Alphabet::HasOverflowSymbol() const {
+  switch (kind) {
+    case AlphabetKind::kBytes:
+      return block >= kMinCappedBlock;
+    case AlphabetKind::kTokens:
+      return true;
+    case AlphabetKind::kField:
+      return width_bits > kMaxDirectFieldWidth;
+  }
+  return false;
+}
+
 std::string Alphabet::FormatKey(const SymbolKey& key) const {
+  // No block or field key is empty: "" is the overflow symbol, in every alphabet alike.
+  if (key.empty()) return std::string(kOverflowToken);
   switch (kind) {
     case AlphabetKind::kBytes: {
       std::string out = "0x";
@@ -87,13 +101,19 @@ std::string Alphabet::FormatKey(const SymbolKey& key) const {
 }
 
 Result<SymbolKey> Alphabet::ParseKey(std::string_view text) const {
+  if (text.empty() && kind != AlphabetKind::kTokens) {
+    if (HasOverflowSymbol()) return SymbolKey(kOverflowToken);
+    return Error{"symbol \"\" (the overflow symbol) is not a " + ToString() +
+                 " symbol: only byte blocks of " + std::to_string(kMinCappedBlock) +
+                 " or more bytes and fields wider than " + std::to_string(kMaxDirectFieldWidth) +
+                 " bits have one"};
+  }
   switch (kind) {
     case AlphabetKind::kBytes: {
       const size_t digits = 2 * static_cast<size_t>(block);
       if (text.size() != digits + 2 || !(text.starts_with("0x") || text.starts_with("0X"))) {
         return Error{"symbol '" + std::string(text) + "' is not a " + ToString() +
-                     " symbol (expected 0x followed by " + std::to_string(digits) +
-                     " hex digits)"};
+                     " symbol (expected 0x followed by " + std::to_string(digits) + " hex digits)"};
       }
       SymbolKey key;
       for (size_t i = 2; i < text.size(); i += 2) {

@@ -1,5 +1,6 @@
 // The `bytes` symbolizer: single bytes (id = byte value) or n-byte blocks (dense interned ids).
 #include <memory>
+#include <vector>
 
 #include "codedrift/symbolizer.h"
 
@@ -39,10 +40,13 @@ class SingleByteSymbolizer final : public Symbolizer {
 
 // Non-overlapping n-byte blocks of the byte stream formed by all records in order: a block
 // cut by the end of a record is completed by the next record's first bytes, so block
-// boundaries fall where a block code over the concatenated capture would put them.
+// boundaries fall where a block code over the concatenated capture would put them. At most
+// `max_distinct` distinct blocks are kept (later new ones share the overflow id), so a sender
+// of random bytes cannot grow the model without bound.
 class BlockSymbolizer final : public Symbolizer {
  public:
-  explicit BlockSymbolizer(int block) : alphabet_(Alphabet::Bytes(block)), block_(block) {}
+  BlockSymbolizer(int block, uint32_t max_distinct)
+      : alphabet_(Alphabet::Bytes(block)), block_(block), interner_(max_distinct) {}
 
   const Alphabet& alphabet() const override { return alphabet_; }
 
@@ -76,10 +80,11 @@ class BlockSymbolizer final : public Symbolizer {
     return out.size() - before;
   }
 
-  SymbolId IdLimit() const override { return interner_.size(); }
+  SymbolId IdLimit() const override { return interner_.IdLimit(); }
 
   SymbolizerState ExportState() const override {
     SymbolizerState state;
+    // The overflow id needs no key: it is max_distinct again after a restore.
     for (SymbolId id = 0; id < interner_.size(); ++id) state.keys.push_back(KeyOf(id));
     state.carry = pending_;
     state.carry_bytes = static_cast<uint32_t>(pending_bytes_);
@@ -91,15 +96,19 @@ class BlockSymbolizer final : public Symbolizer {
     if (state.carry_bytes >= block || (state.carry >> (8 * state.carry_bytes)) != 0) {
       return Error{"checkpoint holds an open block that does not fit the block size"};
     }
-    ValueInterner interner;
+    if (state.keys.size() > interner_.max_distinct()) {
+      return Error{"checkpoint holds more blocks than max_distinct"};
+    }
+    std::vector<uint32_t> values;
+    values.reserve(state.keys.size());
     for (const SymbolKey& key : state.keys) {
       if (key.size() != block) return Error{"checkpoint holds a block key of the wrong size"};
       uint32_t value = 0;
       for (const char c : key) value = (value << 8) | static_cast<unsigned char>(c);
-      if (interner.Intern(value) + 1 != interner.size()) {
-        return Error{"checkpoint holds the same block key twice"};
-      }
+      values.push_back(value);
     }
+    CappedValueInterner interner(interner_.max_distinct());
+    if (!interner.Restore(values)) return Error{"checkpoint holds the same block key twice"};
     interner_ = std::move(interner);
     pending_ = static_cast<uint32_t>(state.carry);
     pending_bytes_ = static_cast<int>(state.carry_bytes);
@@ -107,6 +116,7 @@ class BlockSymbolizer final : public Symbolizer {
   }
 
   SymbolKey KeyOf(SymbolId id) const override {
+    if (interner_.IsOverflow(id)) return SymbolKey(kOverflowToken);
     const uint32_t value = interner_.ValueOf(id);
     SymbolKey key(static_cast<size_t>(block_), '\0');
     for (int i = block_ - 1, shift = 0; i >= 0; --i, shift += 8) {
@@ -118,17 +128,24 @@ class BlockSymbolizer final : public Symbolizer {
  private:
   Alphabet alphabet_;
   int block_;
-  ValueInterner interner_;
+  CappedValueInterner interner_;
   uint32_t pending_ = 0;   // bytes of the open block, packed big-endian
   int pending_bytes_ = 0;  // 0 .. block_ - 1
 };
 
 }  // namespace
 
-std::unique_ptr<Symbolizer> MakeBytesSymbolizer(int block) {
+std::unique_ptr<Symbolizer> MakeBytesSymbolizer(int block, const BytesOptions& options) {
   if (block == 1) return std::make_unique<SingleByteSymbolizer>();
-  if (block >= 2 && block <= 4) return std::make_unique<BlockSymbolizer>(block);
+  // Blocks of 2 have at most 2^16 values: all are kept, as for direct fields.
+  const uint32_t max_distinct =
+      block >= kMinCappedBlock ? options.max_distinct : ValueInterner::kNoLimit;
+  if (block >= 2 && block <= 4) return std::make_unique<BlockSymbolizer>(block, max_distinct);
   return nullptr;
+}
+
+std::unique_ptr<Symbolizer> MakeBytesSymbolizer(int block) {
+  return MakeBytesSymbolizer(block, BytesOptions{.max_distinct = ValueInterner::kNoLimit});
 }
 
 }  // namespace codedrift

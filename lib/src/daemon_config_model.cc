@@ -17,11 +17,11 @@ constexpr std::array<std::string_view, 9> kSymbolsKeys = {
     "kind",        "block",      "delimiters", "mask_digits", "max_distinct",
     "offset_bits", "width_bits", "order",      "transform"};
 constexpr std::array<std::string_view, 3> kKinds = {"bytes", "tokens", "field"};
-constexpr std::array<std::string_view, 1> kBytesKeys = {"block"};
+constexpr std::array<std::string_view, 2> kBytesKeys = {"block", "max_distinct"};
 constexpr std::array<std::string_view, 3> kTokensKeys = {"delimiters", "mask_digits",
                                                          "max_distinct"};
-constexpr std::array<std::string_view, 4> kFieldKeys = {"offset_bits", "width_bits", "order",
-                                                        "transform"};
+constexpr std::array<std::string_view, 5> kFieldKeys = {"offset_bits", "width_bits", "order",
+                                                        "transform", "max_distinct"};
 constexpr std::array<std::string_view, 2> kOrders = {"big", "little"};
 constexpr std::array<std::string_view, 3> kTransforms = {"none", "delta", "xor"};
 constexpr std::array<std::string_view, 3> kWindowKeys = {"symbols", "span", "buckets"};
@@ -29,6 +29,8 @@ constexpr std::array<std::string_view, 6> kAlertKeys = {"saving",     "for",    
                                                         "confidence", "cooldown", "max_payback"};
 
 constexpr uint64_t kMaxWindowSymbols = uint64_t{1} << 28;
+// max_distinct (tokens, byte blocks of 3..4, fields wider than 16 bits).
+constexpr uint64_t kMaxDistinctLimit = uint64_t{1} << 24;
 constexpr uint64_t kMaxBuckets = 4096;
 constexpr uint64_t kDefaultBuckets = 60;
 // Per-symbol count export is for small alphabets: each symbol is one Prometheus series.
@@ -49,6 +51,25 @@ std::span<const std::string_view> KeysOfKind(AlphabetKind kind) {
       return kFieldKeys;
   }
   return {};
+}
+
+// max_distinct bounds the alphabets that number values as they come (tokens, blocks of 3..4
+// bytes, fields wider than 16 bits). Smaller blocks and fields have an id for every value, so
+// the key would change nothing there: it is an error rather than silently ignored.
+bool CheckMaxDistinctApplies(const ConfigMap& map, const SymbolsConfig& symbols,
+                             ConfigDiagnostics& diagnostics) {
+  const ConfigEntry* entry = map.Find("max_distinct");
+  if (entry == nullptr || symbols.alphabet().HasOverflowSymbol()) return true;
+  const std::string values =
+      symbols.kind == AlphabetKind::kBytes
+          ? "blocks of " + std::to_string(symbols.block) + " byte" + (symbols.block == 1 ? "" : "s")
+          : std::to_string(symbols.field.width_bits) + "-bit fields";
+  diagnostics.Report(entry->key_position,
+                     "key 'max_distinct' does not apply to " + values + " (every one of their " +
+                         std::to_string(symbols.alphabet().Size()) +
+                         " values has an id of its own), expected it only with block 3 or 4 "
+                         "(bytes) or width_bits 17 to 32 (field)");
+  return false;
 }
 
 std::optional<SymbolsConfig> ReadSymbols(const ConfigEntry& entry, const StreamConfig& stream,
@@ -100,8 +121,18 @@ std::optional<SymbolsConfig> ReadSymbols(const ConfigEntry& entry, const StreamC
     return value.has_value();
   });
   read("max_distinct", [&](const ConfigEntry& e) {
-    auto value = ReadInteger(e, 1, uint64_t{1} << 24, diagnostics);
-    Assign(value, symbols.tokens.max_distinct);
+    auto value = ReadInteger(e, 1, kMaxDistinctLimit, diagnostics);
+    switch (symbols.kind) {
+      case AlphabetKind::kBytes:
+        Assign(value, symbols.bytes.max_distinct);
+        break;
+      case AlphabetKind::kTokens:
+        Assign(value, symbols.tokens.max_distinct);
+        break;
+      case AlphabetKind::kField:
+        Assign(value, symbols.field.max_distinct);
+        break;
+    }
     return value.has_value();
   });
   read("offset_bits", [&](const ConfigEntry& e) {
@@ -124,6 +155,7 @@ std::optional<SymbolsConfig> ReadSymbols(const ConfigEntry& entry, const StreamC
     if (value) symbols.field.transform = static_cast<FieldTransform>(*value);
     return value.has_value();
   });
+  if (ok) ok = CheckMaxDistinctApplies(*map, symbols, diagnostics);
   if (ok && symbols.kind == AlphabetKind::kField) {
     const uint64_t end_bit =
         uint64_t{symbols.field.offset_bits} + static_cast<uint64_t>(symbols.field.width_bits);

@@ -1,6 +1,7 @@
 // The `field` symbolizer: one bit field of each packet, optionally differenced against the
 // previous packet's field, as one symbol per record.
 #include <memory>
+#include <vector>
 
 #include "codedrift/symbolizer.h"
 
@@ -9,19 +10,20 @@
 namespace codedrift {
 namespace {
 
-// Fields up to this width use the value itself as the id (a counting array of at most 64 Ki
-// entries); wider fields intern values so arrays grow only with the values actually seen.
-constexpr int kMaxDirectWidth = 16;
-
+// Fields up to kMaxDirectFieldWidth bits use the value itself as the id (a counting array of
+// at most 64 Ki entries); wider fields intern values so arrays grow only with the values
+// actually seen, and at most max_distinct of them, so a sender of random values cannot grow
+// the model without bound.
 class FieldSymbolizer final : public Symbolizer {
  public:
   explicit FieldSymbolizer(const FieldOptions& options)
       : options_(options),
         alphabet_(Alphabet::Field(options.width_bits)),
+        direct_(options.width_bits <= kMaxDirectFieldWidth),
         mask_((uint64_t{1} << options.width_bits) - 1),
         first_byte_(options.offset_bits / 8),
-        byte_count_((options.offset_bits % 8 + static_cast<uint64_t>(options.width_bits) + 7) / 8) {
-  }
+        byte_count_((options.offset_bits % 8 + static_cast<uint64_t>(options.width_bits) + 7) / 8),
+        interner_(options.max_distinct) {}
 
   const Alphabet& alphabet() const override { return alphabet_; }
 
@@ -43,26 +45,27 @@ class FieldSymbolizer final : public Symbolizer {
         break;
     }
     previous_ = raw;
-    out.push_back(options_.width_bits <= kMaxDirectWidth
-                      ? static_cast<SymbolId>(value)
-                      : interner_.Intern(static_cast<uint32_t>(value)));
+    out.push_back(direct_ ? static_cast<SymbolId>(value)
+                          : interner_.Intern(static_cast<uint32_t>(value)));
     return 1;
   }
 
   SymbolId IdLimit() const override {
-    return options_.width_bits <= kMaxDirectWidth ? SymbolId{1} << options_.width_bits
-                                                  : interner_.size();
+    return direct_ ? SymbolId{1} << options_.width_bits : interner_.IdLimit();
   }
 
   SymbolKey KeyOf(SymbolId id) const override {
-    return FieldKey(options_.width_bits <= kMaxDirectWidth ? id : interner_.ValueOf(id));
+    if (direct_) return FieldKey(id);
+    if (interner_.IsOverflow(id)) return SymbolKey(kOverflowToken);
+    return FieldKey(interner_.ValueOf(id));
   }
 
   uint64_t skipped_records() const override { return skipped_; }
 
   SymbolizerState ExportState() const override {
     SymbolizerState state;
-    if (options_.width_bits > kMaxDirectWidth) {
+    // The overflow id needs no key: it is max_distinct again after a restore.
+    if (!direct_) {
       for (SymbolId id = 0; id < interner_.size(); ++id) state.keys.push_back(KeyOf(id));
     }
     state.carry = previous_;
@@ -74,18 +77,22 @@ class FieldSymbolizer final : public Symbolizer {
     if (state.carry > mask_ || state.carry_bytes != 0) {
       return Error{"checkpoint holds a previous field value wider than the field"};
     }
-    if (options_.width_bits <= kMaxDirectWidth && !state.keys.empty()) {
+    if (direct_ && !state.keys.empty()) {
       return Error{"checkpoint holds keys for a field whose ids are its values"};
     }
-    ValueInterner interner;
+    if (state.keys.size() > options_.max_distinct) {
+      return Error{"checkpoint holds more field values than max_distinct"};
+    }
+    std::vector<uint32_t> values;
+    values.reserve(state.keys.size());
     for (const SymbolKey& key : state.keys) {
       if (key.size() != 8 || FieldValue(key) > mask_) {
         return Error{"checkpoint holds a field key outside the field's range"};
       }
-      if (interner.Intern(static_cast<uint32_t>(FieldValue(key))) + 1 != interner.size()) {
-        return Error{"checkpoint holds the same field key twice"};
-      }
+      values.push_back(static_cast<uint32_t>(FieldValue(key)));
     }
+    CappedValueInterner interner(options_.max_distinct);
+    if (!interner.Restore(values)) return Error{"checkpoint holds the same field key twice"};
     interner_ = std::move(interner);
     previous_ = state.carry;
     skipped_ = state.skipped_records;
@@ -117,12 +124,13 @@ class FieldSymbolizer final : public Symbolizer {
 
   FieldOptions options_;
   Alphabet alphabet_;
+  bool direct_;  // ids are the values
   uint64_t mask_;
   size_t first_byte_;
   size_t byte_count_;
   uint64_t previous_ = 0;  // raw value of the last accepted record; 0 before the first
   uint64_t skipped_ = 0;
-  ValueInterner interner_;
+  CappedValueInterner interner_;  // wide fields only
 };
 
 }  // namespace

@@ -22,7 +22,7 @@ bool SymbolizerSpec::operator==(const SymbolizerSpec& other) const {
   if (kind != other.kind) return false;
   switch (kind) {
     case AlphabetKind::kBytes:
-      return block == other.block;
+      return block == other.block && bytes.max_distinct == other.bytes.max_distinct;
     case AlphabetKind::kTokens:
       return tokens.delimiters == other.tokens.delimiters &&
              tokens.mask_digits == other.tokens.mask_digits &&
@@ -30,7 +30,8 @@ bool SymbolizerSpec::operator==(const SymbolizerSpec& other) const {
     case AlphabetKind::kField:
       return field.offset_bits == other.field.offset_bits &&
              field.width_bits == other.field.width_bits && field.order == other.field.order &&
-             field.transform == other.field.transform;
+             field.transform == other.field.transform &&
+             field.max_distinct == other.field.max_distinct;
   }
   return false;
 }
@@ -38,7 +39,7 @@ bool SymbolizerSpec::operator==(const SymbolizerSpec& other) const {
 std::unique_ptr<Symbolizer> MakeSymbolizer(const SymbolizerSpec& spec) {
   switch (spec.kind) {
     case AlphabetKind::kBytes:
-      return MakeBytesSymbolizer(spec.block);
+      return MakeBytesSymbolizer(spec.block, spec.bytes);
     case AlphabetKind::kTokens:
       return MakeTokenSymbolizer(spec.tokens);
     case AlphabetKind::kField:

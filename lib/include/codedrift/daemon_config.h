@@ -55,6 +55,7 @@ struct SymbolsConfig {
   int block = 1;        // bytes: 1..4
   TokenOptions tokens;  // tokens
   FieldOptions field;   // field
+  BytesOptions bytes;   // bytes: max_distinct of blocks of 3..4
 
   Alphabet alphabet() const;  // bytes:<block>, tokens or field:<width_bits>
 };

@@ -21,6 +21,7 @@ struct SymbolizerSpec {
   int block = 1;          // bytes
   TokenOptions tokens;    // tokens
   FieldOptions field;     // field
+  BytesOptions bytes;     // bytes: max_distinct of blocks of 3..4
 
   Alphabet alphabet() const;
   bool operator==(const SymbolizerSpec& other) const;

@@ -29,6 +29,16 @@ struct FieldOptions {
   int width_bits = 8;  // 1..32
   FieldOrder order = FieldOrder::kBig;
   FieldTransform transform = FieldTransform::kNone;  // against the previous record's value
+  // Fields wider than kMaxDirectFieldWidth bits: distinct values kept; later new values share
+  // the overflow id (key kOverflowToken). Narrower fields have ids for all values: unused.
+  uint32_t max_distinct = 65536;
+};
+
+// Options of the `bytes` symbolizer besides its block size.
+struct BytesOptions {
+  // Blocks of kMinCappedBlock bytes or more: distinct blocks kept; later new blocks share the
+  // overflow id (key kOverflowToken). Smaller blocks have ids for all values: unused.
+  uint32_t max_distinct = 65536;
 };
 
 // What a symbolizer carries from record to record, for checkpoints.
@@ -69,11 +79,18 @@ class Symbolizer {
 // block at the end waits for the next record), tokens, field.
 // Ids: bytes block 1 and fields of width <= 16 use the value itself (IdLimit 256, 2^width);
 // byte blocks of 2..4 and wider fields number values densely in order of first appearance.
+// Byte blocks of 3..4 and fields wider than 16 bits keep at most max_distinct values: ids
+// 0 .. max_distinct - 1 are values, and id max_distinct is the overflow symbol
+// (kOverflowToken) that every later new value maps to; IdLimit reaches max_distinct + 1 once
+// the table is full, whether or not the overflow id has been handed out yet.
 // Tokens: id 0 is end of record (kEndOfRecordToken), id 1 the overflow symbol
 // (kOverflowToken), tokens from 2 on; a record's trailing "\n" or "\r\n" is not a token and a
 // newline inside a record always delimits. Options outside their documented range (block
 // not 1..4, width_bits not 1..32) give nullptr: validate configs before calling.
+// MakeBytesSymbolizer(block) keeps every distinct block (no cap): for offline passes whose
+// memory its input bounds anyway. The daemon passes BytesOptions.
 std::unique_ptr<Symbolizer> MakeBytesSymbolizer(int block = 1);
+std::unique_ptr<Symbolizer> MakeBytesSymbolizer(int block, const BytesOptions& options);
 std::unique_ptr<Symbolizer> MakeTokenSymbolizer(const TokenOptions& options);
 std::unique_ptr<Symbolizer> MakeFieldSymbolizer(const FieldOptions& options);
 
