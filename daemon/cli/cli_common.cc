@@ -28,8 +28,10 @@ void AddSymbolFlags(CLI::App& command, SymbolFlags& flags) {
                    "tokens: map every ASCII digit to 0 before counting");
   command
       .add_option("--max-distinct", flags.max_distinct,
-                  "tokens: distinct tokens kept; later new tokens share the overflow symbol \"\"")
-      ->check(CLI::Range(1u, 1u << 30));
+                  "tokens, and bytes with --block 3 or 4: distinct symbols kept; later new "
+                  "ones share the overflow symbol \"\"")
+      ->check(CLI::Range(1u, 1u << 30))
+      ->each([&flags](const std::string&) { flags.max_distinct_given = true; });
   command
       .add_option("--threads", flags.threads,
                   "Threads for counting (default: one per core; at most 2 are used). The "
@@ -47,6 +49,7 @@ Result<SymbolSource> ResolveSymbolSource(const SymbolFlags& flags, const CodeTab
   source.tokens.delimiters = flags.delimiters;
   source.tokens.mask_digits = flags.mask_digits;
   source.tokens.max_distinct = flags.max_distinct;
+  source.bytes.max_distinct = flags.max_distinct;
   if (table != nullptr && table->alphabet.kind == AlphabetKind::kField) {
     return Error{"the table's alphabet is " + table->alphabet.ToString() +
                  "; the CLI reads bytes or tokens only (fields are the daemon's)"};
@@ -63,6 +66,10 @@ Result<SymbolSource> ResolveSymbolSource(const SymbolFlags& flags, const CodeTab
     int block = flags.block;
     if (block == 0) block = table != nullptr ? table->alphabet.block : 1;
     source.alphabet = Alphabet::Bytes(block);
+  }
+  if (flags.max_distinct_given && !source.alphabet.HasOverflowSymbol()) {
+    return Error{"--max-distinct applies to tokens and to --block 3 or 4 (every " +
+                 source.alphabet.ToString() + " symbol has an id of its own)"};
   }
   if (table != nullptr && !(table->alphabet == source.alphabet)) {
     return Error{"the table codes " + table->alphabet.ToString() + " symbols but the stream is " +

@@ -30,7 +30,8 @@ struct SymbolFlags {
   int block = 0;        // 0: not given (1, or the table's block)
   std::string delimiters = TokenOptions{}.delimiters;
   bool mask_digits = false;
-  uint32_t max_distinct = TokenOptions{}.max_distinct;
+  uint32_t max_distinct = TokenOptions{}.max_distinct;  // tokens; bytes with block 3..4
+  bool max_distinct_given = false;                      // refused where it would change nothing
   int threads = 0;  // 0: one per hardware thread (the counting passes use at most 2)
 };
 void AddSymbolFlags(CLI::App& command, SymbolFlags& flags);

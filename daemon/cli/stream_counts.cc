@@ -172,7 +172,8 @@ Result<StreamCounts> CountSymbolized(const CaptureStream& stream, const SymbolSo
                                      Progress* progress) {
   const bool tokens = source.alphabet.kind == AlphabetKind::kTokens;
   std::unique_ptr<Symbolizer> symbolizer =
-      tokens ? MakeTokenSymbolizer(source.tokens) : MakeBytesSymbolizer(source.alphabet.block);
+      tokens ? MakeTokenSymbolizer(source.tokens)
+             : MakeBytesSymbolizer(source.alphabet.block, source.bytes);
   if (symbolizer == nullptr) {
     return Error{"unsupported symbols: " + source.alphabet.ToString()};
   }

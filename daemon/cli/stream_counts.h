@@ -21,6 +21,7 @@ namespace codedrift::cli {
 struct SymbolSource {
   Alphabet alphabet = Alphabet::Bytes();
   TokenOptions tokens;  // used for tokens only
+  BytesOptions bytes;   // used for bytes blocks of 3..4 only
 };
 
 // Block counts of one order n: N_n blocks of n symbols, K_n distinct, plug-in H(S^n) in bits
