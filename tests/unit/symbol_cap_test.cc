@@ -253,5 +253,17 @@ TEST(CapModel, CheckpointIsRefusedWhenTheCapChanged) {
   EXPECT_FALSE(smaller.ImportState(state).ok());
 }
 
+// A reload compares specs to decide whether a model keeps its counts: a new cap starts afresh.
+TEST(CapModel, SpecsDifferByTheirCap) {
+  EXPECT_EQ(WideFieldSpec(4), WideFieldSpec(4));
+  EXPECT_FALSE(WideFieldSpec(4) == WideFieldSpec(8));
+  SymbolizerSpec blocks;
+  blocks.kind = AlphabetKind::kBytes;
+  blocks.block = 3;
+  SymbolizerSpec roomier = blocks;
+  roomier.bytes.max_distinct = blocks.bytes.max_distinct + 1;
+  EXPECT_FALSE(blocks == roomier);
+}
+
 }  // namespace
 }  // namespace codedrift
