@@ -1,8 +1,8 @@
 // The `tokens` symbolizer: splits each record on a delimiter set, interns the tokens, and ends
 // every record with the end-of-record symbol.
-#include <array>
 #include <memory>
 
+#include "codedrift/delimiter_set.h"
 #include "codedrift/symbolizer.h"
 
 #include "token_table.h"
@@ -19,13 +19,10 @@ class TokenSymbolizer final : public Symbolizer {
   explicit TokenSymbolizer(const TokenOptions& options)
       : mask_digits_(options.mask_digits),
         max_distinct_(options.max_distinct),
-        table_(kFirstTokenId) {
-    is_delimiter_.fill(0);
-    for (const char c : options.delimiters) is_delimiter_[static_cast<unsigned char>(c)] = 1;
-    // Tokens never contain a newline (alphabet.h reserves "\n" for end of record), so a
-    // newline inside a record always separates tokens.
-    is_delimiter_['\n'] = 1;
-  }
+        // Tokens never contain a newline (alphabet.h reserves "\n" for end of record), so a
+        // newline inside a record always separates tokens.
+        delimiters_(options.delimiters + '\n'),
+        table_(kFirstTokenId) {}
 
   const Alphabet& alphabet() const override { return alphabet_; }
 
@@ -36,14 +33,14 @@ class TokenSymbolizer final : public Symbolizer {
       if (record.ends_with('\r')) record.remove_suffix(1);
     }
     const size_t before = out.size();
-    const char* p = record.data();
-    const char* const end = p + record.size();
-    while (true) {
-      while (p != end && is_delimiter_[static_cast<unsigned char>(*p)]) ++p;
-      if (p == end) break;
-      const char* const start = p;
-      while (p != end && !is_delimiter_[static_cast<unsigned char>(*p)]) ++p;
-      out.push_back(Lookup(start, static_cast<size_t>(p - start)));
+    if (mask_digits_) {
+      delimiters_.ForEachToken(record, [&](const char* token, size_t length) {
+        out.push_back(Found(table_.Intern<true>(token, length, max_distinct_)));
+      });
+    } else {
+      delimiters_.ForEachToken(record, [&](const char* token, size_t length) {
+        out.push_back(Found(table_.Intern<false>(token, length, max_distinct_)));
+      });
     }
     out.push_back(kEndOfRecordId);
     return out.size() - before;
@@ -83,16 +80,12 @@ class TokenSymbolizer final : public Symbolizer {
   }
 
  private:
-  SymbolId Lookup(const char* token, size_t length) {
-    const uint32_t id = mask_digits_ ? table_.Intern<true>(token, length, max_distinct_)
-                                     : table_.Intern<false>(token, length, max_distinct_);
-    return id == TokenTable::kNotFound ? kOverflowId : id;
-  }
+  static SymbolId Found(uint32_t id) { return id == TokenTable::kNotFound ? kOverflowId : id; }
 
   Alphabet alphabet_ = Alphabet::Tokens();
   bool mask_digits_;
   uint32_t max_distinct_;
-  std::array<unsigned char, 256> is_delimiter_;
+  DelimiterSet delimiters_;
   TokenTable table_;
 };
 

@@ -1,5 +1,7 @@
-// TokenTable: interns token text to dense ids with an open-addressing hash table whose keys
-// live in one arena, so a lookup touches one slot and one contiguous key.
+// TokenTable: interns token text to dense ids with an open-addressing hash table sized to stay
+// in cache. A lookup touches one 8-byte slot, and only when its 32-bit tag matches, the key's
+// 24-byte entry (a short key's text is in the entry itself). Once the table is full, a small
+// filter turns away most tokens it does not hold before any slot is read.
 #pragma once
 
 #include <cstddef>
@@ -9,10 +11,14 @@
 #include <string_view>
 #include <vector>
 
+#if defined(__SSE2__)
+#include <emmintrin.h>
+#endif
+
 namespace codedrift {
 
-// Owns its slots and arena; not thread-safe. Ids start at `first_id`, so a caller can keep
-// low ids for reserved symbols.
+// Owns its slots, entries and arena; not thread-safe. Ids start at `first_id`, so a caller can
+// keep low ids for reserved symbols.
 //
 // With kMaskDigits, every ASCII digit of the looked-up text reads as '0'. The masking is done
 // on 8-byte words in registers while hashing and comparing: writing a masked copy byte by byte
@@ -27,7 +33,7 @@ class TokenTable {
   // The id of `token` (masked first if kMaskDigits); when it is new, assigns the next id if
   // fewer than `limit` tokens are stored, and otherwise returns kNotFound without storing it.
   template <bool kMaskDigits>
-  uint32_t Intern(const char* token, size_t length, uint32_t limit) {
+  __attribute__((always_inline)) uint32_t Intern(const char* token, size_t length, uint32_t limit) {
     // Short tokens (nearly all of them in telemetry) are read once into two words that serve
     // both the hash and the comparison.
     Words words{};
@@ -38,54 +44,59 @@ class TokenTable {
     } else {
       hash = HashLong<kMaskDigits>(token, length);
     }
+    if (filtered_size_ == size() && size() >= limit && !MayHold(hash)) return kNotFound;
     const auto tag = static_cast<uint32_t>(hash >> 32);
     size_t slot = hash & mask_;
     while (true) {
-      const Slot& s = slots_[slot];
+      const Slot s = slots_[slot];
       if (s.index == kEmpty) break;
       if (s.tag == tag) {
-        const Key& key = keys_[s.index];
-        const char* stored = arena_.data() + key.offset;
-        if (key.length == length &&
-            (length <= kShort ? ReadShort<false>(stored, length) == words
-                              : EqualLong<kMaskDigits>(stored, token, length))) {
+        const Entry& entry = entries_[s.index];
+        if (entry.length == length &&
+            (length <= kShort
+                 ? entry.words == words
+                 : EqualLong<kMaskDigits>(arena_.data() + offsets_[s.index], token, length))) {
           return first_id_ + s.index;
         }
       }
       slot = (slot + 1) & mask_;
     }
-    if (size() >= limit) return kNotFound;
-    const auto index = static_cast<uint32_t>(keys_.size());
-    slots_[slot] = Slot{tag, index};
-    keys_.push_back(Key{arena_.size(), static_cast<uint32_t>(length)});
-    for (size_t i = 0; i < length; ++i) {
-      const char c = token[i];
-      arena_ += kMaskDigits && c >= '0' && c <= '9' ? '0' : c;
-    }
-    if (2 * keys_.size() > slots_.size()) Rehash(2 * slots_.size());
-    return first_id_ + index;
+    return Insert<kMaskDigits>(token, length, limit, words, slot, tag);
   }
 
   // Tokens stored so far.
-  uint32_t size() const { return static_cast<uint32_t>(keys_.size()); }
+  uint32_t size() const { return static_cast<uint32_t>(entries_.size()); }
   // Text of an id handed out before.
   std::string_view TextOf(uint32_t id) const {
-    const Key& key = keys_[id - first_id_];
-    return std::string_view(arena_.data() + key.offset, key.length);
+    const uint32_t index = id - first_id_;
+    return std::string_view(arena_.data() + offsets_[index], entries_[index].length);
   }
 
  private:
   static constexpr uint32_t kEmpty = UINT32_MAX;
   static constexpr size_t kInitialCapacity = 1024;
   static constexpr uint64_t kOnes = 0x0101010101010101ull;
+  // Filter bits per stored token: two bits set per token in one 64-bit word gives about 2%
+  // false positives at 16 bits per token, in 128 KiB for 65536 tokens (cache-resident).
+  static constexpr size_t kFilterBitsPerToken = 16;
+
+  // Up to 16 bytes as two words, by overlapping loads (no variable-length memcpy, which is a
+  // libc call per token): together they cover every byte, so for a given length equal words
+  // mean equal text.
+  static constexpr size_t kShort = 16;
+  struct Words {
+    uint64_t a = 0;
+    uint64_t b = 0;
+    bool operator==(const Words&) const = default;
+  };
 
   struct Slot {
     uint32_t tag = 0;         // high hash bits: most mismatches fail here, before comparing
-    uint32_t index = kEmpty;  // into keys_
+    uint32_t index = kEmpty;  // into entries_
   };
-  struct Key {
-    size_t offset;  // in arena_
-    uint32_t length;
+  struct Entry {
+    Words words;  // short keys: their (masked) text as ReadShort reads it
+    size_t length;
   };
 
   // Each byte 0x30..0x39 ('0'..'9') becomes 0x30; other bytes are unchanged. Exact per byte:
@@ -119,21 +130,31 @@ class TokenTable {
     return kMaskDigits ? MaskDigits(v) : v;
   }
 
-  // Up to 16 bytes as two words, by overlapping loads (no variable-length memcpy, which is a
-  // libc call per token): together they cover every byte, so for a given length equal words
-  // mean equal text.
-  static constexpr size_t kShort = 16;
-  struct Words {
-    uint64_t a = 0;
-    uint64_t b = 0;
-    bool operator==(const Words&) const = default;
-  };
+  // Both words at once (zero bytes are no digits, so padding stays zero).
+  static Words MaskDigits(Words w) {
+#if defined(__SSE2__)
+    // x + 0x50 maps '0'..'9' (and only them) onto -128..-119 as signed bytes.
+    const __m128i v = _mm_set_epi64x(static_cast<long long>(w.b), static_cast<long long>(w.a));
+    const __m128i digit = _mm_cmplt_epi8(_mm_add_epi8(v, _mm_set1_epi8(0x50)), _mm_set1_epi8(-118));
+    const __m128i masked = _mm_andnot_si128(_mm_and_si128(digit, _mm_set1_epi8(0x0F)), v);
+    return {static_cast<uint64_t>(_mm_cvtsi128_si64(masked)),
+            static_cast<uint64_t>(_mm_cvtsi128_si64(_mm_unpackhi_epi64(masked, masked)))};
+#else
+    return {MaskDigits(w.a), MaskDigits(w.b)};
+#endif
+  }
+
   template <bool kMaskDigits>
   static Words ReadShort(const char* p, size_t length) {
-    if (length >= 8) return {Load64<kMaskDigits>(p), Load64<kMaskDigits>(p + length - 8)};
-    if (length >= 4) return {Load32<kMaskDigits>(p), Load32<kMaskDigits>(p + length - 4)};
-    if (length > 0) return {LoadShort<kMaskDigits>(p, length), 0};
-    return {};
+    Words w;
+    if (length >= 8) {
+      w = {Load64<false>(p), Load64<false>(p + length - 8)};
+    } else if (length >= 4) {
+      w = {Load32<false>(p), Load32<false>(p + length - 4)};
+    } else if (length > 0) {
+      w = {LoadShort<false>(p, length), 0};
+    }
+    return kMaskDigits ? MaskDigits(w) : w;
   }
 
   // One 64x64->128 multiply folds both words (the wyhash-style "mum"), then a multiply and
@@ -165,10 +186,11 @@ class TokenTable {
     return h;
   }
 
-  template <bool kMaskDigits>
-  static uint64_t HashOf(const char* data, size_t length) {
-    return length <= kShort ? MixShort(ReadShort<kMaskDigits>(data, length), length)
-                            : HashLong<kMaskDigits>(data, length);
+  // The hash of stored (already masked) text, which hashing it unmasked reproduces.
+  uint64_t StoredHash(uint32_t index) const {
+    const Entry& entry = entries_[index];
+    return entry.length <= kShort ? MixShort(entry.words, entry.length)
+                                  : HashLong<false>(arena_.data() + offsets_[index], entry.length);
   }
 
   // Stored (already masked) text against looked-up text of the same length (> 8 bytes).
@@ -180,12 +202,53 @@ class TokenTable {
     return Load64<false>(stored + length - 8) == Load64<kMaskDigits>(text + length - 8);
   }
 
+  // The filter: one 64-bit word per hash (middle bits), two bits in it (low bits, disjoint
+  // from the slot's use of them only in part, which costs nothing but a little filtering).
+  static uint64_t FilterBits(uint64_t hash) {
+    return uint64_t{1} << (hash & 63) | uint64_t{1} << ((hash >> 6) & 63);
+  }
+  bool MayHold(uint64_t hash) const {
+    const uint64_t bits = FilterBits(hash);
+    return (filter_[(hash >> 12) & filter_mask_] & bits) == bits;
+  }
+  void BuildFilter() {
+    size_t words = 1;
+    while (words * 64 < size_t{size()} * kFilterBitsPerToken) words *= 2;
+    filter_.assign(words, 0);
+    filter_mask_ = words - 1;
+    for (uint32_t index = 0; index < size(); ++index) {
+      const uint64_t hash = StoredHash(index);
+      filter_[(hash >> 12) & filter_mask_] |= FilterBits(hash);
+    }
+    filtered_size_ = size();
+  }
+
+  // A token not in the table, whose probe ended at the empty `slot`: stored when there is room
+  // (the rare path, kept out of line so the lookup above inlines into the scan).
+  template <bool kMaskDigits>
+  __attribute__((noinline)) uint32_t Insert(const char* token, size_t length, uint32_t limit,
+                                            const Words& words, size_t slot, uint32_t tag) {
+    if (size() >= limit) {
+      if (filtered_size_ != size()) BuildFilter();
+      return kNotFound;
+    }
+    const auto index = static_cast<uint32_t>(entries_.size());
+    slots_[slot] = Slot{tag, index};
+    entries_.push_back(Entry{words, length});
+    offsets_.push_back(arena_.size());
+    for (size_t i = 0; i < length; ++i) {
+      const char c = token[i];
+      arena_ += kMaskDigits && c >= '0' && c <= '9' ? '0' : c;
+    }
+    if (2 * entries_.size() > slots_.size()) Rehash(2 * slots_.size());
+    return first_id_ + index;
+  }
+
   void Rehash(size_t capacity) {
     slots_.assign(capacity, Slot{});
     mask_ = capacity - 1;
-    for (uint32_t index = 0; index < keys_.size(); ++index) {
-      // Stored text is already masked, so hashing it unmasked gives the same value.
-      const uint64_t hash = HashOf<false>(arena_.data() + keys_[index].offset, keys_[index].length);
+    for (uint32_t index = 0; index < entries_.size(); ++index) {
+      const uint64_t hash = StoredHash(index);
       size_t slot = hash & mask_;
       while (slots_[slot].index != kEmpty) slot = (slot + 1) & mask_;
       slots_[slot] = Slot{static_cast<uint32_t>(hash >> 32), index};
@@ -195,8 +258,14 @@ class TokenTable {
   uint32_t first_id_;
   std::vector<Slot> slots_;
   size_t mask_ = 0;
-  std::string arena_;      // every stored token, back to back
-  std::vector<Key> keys_;  // index -> where its text is
+  std::vector<Entry> entries_;   // index -> length and, for short keys, text
+  std::vector<size_t> offsets_;  // index -> where its text starts in arena_
+  std::string arena_;            // every stored token, back to back
+  // Built when a new token first finds the table full; valid while size() == filtered_size_
+  // (no token is stored after it, so a token it turns away is neither stored nor storable).
+  std::vector<uint64_t> filter_;
+  size_t filter_mask_ = 0;
+  uint32_t filtered_size_ = kEmpty;
 };
 
 }  // namespace codedrift
