@@ -68,6 +68,11 @@ class BenchDaemon {
   int Stop();
   std::string Log() const { return process_->Log(); }
 
+  // The temporary directory the daemon runs in (its config, state_dir) and the process itself,
+  // for tools that rewrite the config, signal or call the HTTP API (the soak benchmark).
+  const testing::TempDir& dir() const { return dir_; }
+  testing::DaemonProcess& process() { return *process_; }
+
  private:
   uint64_t StatusField(const std::string& field) const;
 
