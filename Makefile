@@ -3,7 +3,7 @@ BUILD   ?= build
 JOBS    ?= 2
 CMAKE_FLAGS ?= -DCMAKE_BUILD_TYPE=RelWithDebInfo
 
-.PHONY: all deps build test demo bench lint format clean fuzz fuzz-deps test-sanitize test-tsan
+.PHONY: all deps build test demo bench soak lint format clean fuzz fuzz-deps test-sanitize test-tsan
 
 all: build
 
@@ -24,6 +24,12 @@ demo: build
 
 bench: build
 	bash tests/bench/run_bench.sh $(BUILD)
+
+# The soak benchmark (not part of `make test`): SOAK_SECONDS of sustained load with reloads and
+# a flaky webhook; a table over time, then checks and a verdict (tests/soak/run_soak.sh).
+SOAK_SECONDS ?= 600
+soak: build
+	SOAK_SECONDS=$(SOAK_SECONDS) bash tests/soak/run_soak.sh $(BUILD)
 
 # libFuzzer targets (clang, ASan+UBSan) in build-fuzz/, each run for FUZZ_SECONDS in turn.
 FUZZ_SECONDS ?= 60

@@ -1,0 +1,119 @@
+#include "soak_report.h"
+
+#include <algorithm>
+#include <cmath>
+#include <cstdio>
+
+namespace codedrift::soak {
+namespace {
+
+std::string StreamLabel(const SoakStream& stream) { return "stream=\"" + stream.name + "\""; }
+
+double Delta(const SamplePoint& before, const SamplePoint& after, const std::string& name,
+             const std::vector<std::string>& labels) {
+  return after.scrape.Value(name, labels) - before.scrape.Value(name, labels);
+}
+
+// "0.25" for 250 ms; bounds over a second as seconds; +Inf as ">10s".
+std::string Bound(double seconds) {
+  char text[16];
+  if (std::isinf(seconds)) return ">10s";
+  if (seconds <= 0) return "-";
+  std::snprintf(text, sizeof text, "%g", seconds * 1e3);
+  return text;
+}
+
+}  // namespace
+
+void PrintHeader(const std::vector<SoakStream>& streams) {
+  std::printf("%7s %7s %7s", "t s", "MB/s", "krec/s");
+  for (const SoakStream& stream : streams) {
+    const std::string unit = stream.kind == StreamKind::kUdp ? " kdg/s" : " MB/s";
+    std::printf(" %13s", (stream.name + unit).c_str());
+  }
+  std::printf(" %7s %5s %8s %8s %6s %9s %7s\n", "RSS MB", "evals", "eval ms", "max ms<=", "alerts",
+              "hook 2xx", "reloads");
+  std::printf("%7s %7s %7s", "", "", "");
+  for (size_t i = 0; i < streams.size(); ++i) std::printf(" %13s", "");
+  std::printf(" %7s %5s %8s %8s %6s %9s %7s\n", "", "", "mean", "", "total", "/failed", "");
+  std::fflush(stdout);
+}
+
+double IntervalMegabytesPerSecond(const std::vector<SoakStream>& streams, const SamplePoint& before,
+                                  const SamplePoint& after) {
+  const double dt = std::max(after.seconds - before.seconds, 1e-3);
+  double bytes = 0;
+  for (const SoakStream& s : streams) {
+    bytes += Delta(before, after, "codedrift_bytes_total", {StreamLabel(s)});
+  }
+  return bytes / dt / 1e6;
+}
+
+double IntervalRecordsPerSecond(const std::vector<SoakStream>& streams, const SamplePoint& before,
+                                const SamplePoint& after) {
+  const double dt = std::max(after.seconds - before.seconds, 1e-3);
+  double records = 0;
+  for (const SoakStream& s : streams) {
+    records += Delta(before, after, "codedrift_records_total", {StreamLabel(s)});
+  }
+  return records / dt;
+}
+
+void PrintRow(const std::vector<SoakStream>& streams, const SamplePoint& before,
+              const SamplePoint& after) {
+  const double dt = std::max(after.seconds - before.seconds, 1e-3);
+  std::printf("%7.1f %7.1f %7.1f", after.seconds,
+              IntervalMegabytesPerSecond(streams, before, after),
+              IntervalRecordsPerSecond(streams, before, after) / 1e3);
+  for (const SoakStream& s : streams) {
+    const bool udp = s.kind == StreamKind::kUdp;
+    const double delta = Delta(
+        before, after, udp ? "codedrift_records_total" : "codedrift_bytes_total", {StreamLabel(s)});
+    std::printf(" %13.1f", udp ? delta / dt / 1e3 : delta / dt / 1e6);
+  }
+  const IntervalLatency latency = Between(before.scrape.Evaluations(), after.scrape.Evaluations());
+  const Scrape& now = after.scrape;
+  char hooks[32];
+  std::snprintf(hooks, sizeof hooks, "%llu/%llu",
+                static_cast<unsigned long long>(
+                    now.Count("codedrift_webhook_deliveries_total", {"result=\"delivered\""})),
+                static_cast<unsigned long long>(now.Count("codedrift_webhook_deliveries_total",
+                                                          {"result=\"failed_attempt\""})));
+  std::printf(" %7.1f %5llu %8.2f %8s %6.0f %9s %7d\n", static_cast<double>(after.rss_bytes) / 1e6,
+              static_cast<unsigned long long>(latency.evaluations), latency.mean_seconds * 1e3,
+              Bound(latency.max_bound_seconds).c_str(), now.Sum("codedrift_alerts_total"), hooks,
+              after.reloads);
+  std::fflush(stdout);
+}
+
+RssJudgement JudgeRss(const std::vector<SamplePoint>& samples, double warmup_seconds) {
+  RssJudgement j;
+  for (const SamplePoint& s : samples) {
+    j.peak_mb = std::max(j.peak_mb, static_cast<double>(s.rss_bytes) / 1e6);
+  }
+  const auto reference = std::find_if(samples.begin(), samples.end(), [&](const SamplePoint& s) {
+    return s.seconds >= warmup_seconds;
+  });
+  // Three samples after the reference, and not the reference itself among them.
+  if (reference == samples.end() || samples.end() - reference < 4) return j;
+  std::vector<double> last;
+  for (auto it = samples.end() - 3; it != samples.end(); ++it) {
+    last.push_back(static_cast<double>(it->rss_bytes) / 1e6);
+  }
+  std::sort(last.begin(), last.end());
+  j.judged = true;
+  j.reference_mb = static_cast<double>(reference->rss_bytes) / 1e6;
+  j.reference_at = reference->seconds;
+  j.final_mb = last[1];
+  j.growth = j.final_mb / j.reference_mb - 1;
+  return j;
+}
+
+bool Verdict::Check(bool ok, const std::string& what) {
+  std::printf("  %-6s %s\n", ok ? "ok" : "FAILED", what.c_str());
+  std::fflush(stdout);
+  if (!ok) ++failures_;
+  return ok;
+}
+
+}  // namespace codedrift::soak
