@@ -1,9 +1,14 @@
 #include "token_pass.h"
 
 #include <algorithm>
+#include <atomic>
+#include <condition_variable>
 #include <cstdint>
+#include <functional>
 #include <map>
 #include <memory>
+#include <mutex>
+#include <optional>
 #include <system_error>
 #include <thread>
 #include <unordered_map>
@@ -12,32 +17,59 @@
 #include "codedrift/entropy.h"
 
 #include "block_counter.h"
-#include "id_pipeline.h"
 
 namespace codedrift::cli {
 namespace {
 
-// One half's symbolizer and counts. The first half counts each order's blocks once; the
-// second counts them at every phase, because where its blocks start depends on how many
-// symbols the first half had.
+// Token ids 0 and 1 are end of record and overflow; tokens from 2 on (symbolizer.h).
+constexpr SymbolId kReservedTokenIds = 2;
+
+// Below this a tail is not worth a second thread.
+constexpr uint64_t kParallelTailMinBytes = uint64_t{1} << 20;
+
+// A table holding max_distinct tokens never changes again: every later token either has its
+// id already or is the overflow symbol, so a copy of the symbolizer numbers any later part of
+// the stream exactly as the original would.
+bool Full(const Symbolizer& symbolizer, uint32_t max_distinct) {
+  return symbolizer.IdLimit() - kReservedTokenIds >= max_distinct;
+}
+
+std::unique_ptr<Symbolizer> CopyOf(const Symbolizer& symbolizer, const TokenOptions& options) {
+  auto copy = MakeTokenSymbolizer(options);
+  if (!copy->ImportState(symbolizer.ExportState()).ok()) return nullptr;
+  return copy;
+}
+
+// Starts fn on a new thread, or runs it here when no thread can be started (the figures do
+// not depend on it).
+std::thread StartOrRun(const std::function<void()>& fn) {
+  try {
+    return std::thread(fn);
+  } catch (const std::system_error&) {
+    fn();
+    return {};
+  }
+}
+
+// One part's symbolizer and counts. The head (the part from the stream's start) counts each
+// order's blocks once; a later part counts them at every phase, because where its blocks start
+// depends on how many symbols came before it.
 struct Half {
   std::unique_ptr<Symbolizer> symbolizer;
   DenseCounter singles;
   std::map<int, std::vector<BlockCounter>> blocks;  // order -> counters by phase (skip)
   Status status = Ok{};
-  bool stop_on_overflow = false;  // second half: give up once its own table is full
-  bool overflowed = false;
+  bool overflowed = false;            // a run with stop_on_overflow stopped for it
   SymbolId overflow_id = UINT32_MAX;  // the symbolizer's id of kOverflowToken
 
-  Half(const TokenOptions& options, const std::set<int>& orders, bool second_half)
-      : symbolizer(MakeTokenSymbolizer(options)), stop_on_overflow(second_half) {
-    const bool all_phases = second_half;
+  Half(std::unique_ptr<Symbolizer> symbolizer_in, const std::set<int>& orders, bool later_part)
+      : symbolizer(std::move(symbolizer_in)) {
     for (SymbolId id = 0; id < symbolizer->IdLimit(); ++id) {
       if (symbolizer->KeyOf(id) == kOverflowToken) overflow_id = id;
     }
     for (const int order : orders) {
       if (order < 2) continue;
-      for (int phase = 0; phase < (all_phases ? order : 1); ++phase) {
+      for (int phase = 0; phase < (later_part ? order : 1); ++phase) {
         blocks[order].emplace_back(order, phase);
       }
     }
@@ -50,30 +82,73 @@ struct Half {
     }
   }
 
-  // Symbolizes [begin, end); with `pipelined`, counting runs on a second thread meanwhile.
-  void Run(const CaptureStream& stream, uint64_t begin, uint64_t end, bool pipelined,
-           Progress* progress) {
-    IdPipeline pipeline([this](const std::vector<SymbolId>& ids) { Count(ids); }, pipelined);
-    std::vector<SymbolId> ids = pipeline.TakeBuffer();
+  bool CountedOverflow() const {
+    const std::vector<uint64_t>& counts = singles.counts();
+    return overflow_id < counts.size() && counts[overflow_id] != 0;
+  }
+
+  // Symbolizes and counts [begin, end), batch by batch. After each batch `after_batch` (when
+  // set) gets the stream offset reached and may stop the run by returning false. With
+  // `stop_on_overflow` the run stops after the batch in which the overflow symbol first shows.
+  void Run(const CaptureStream& stream, uint64_t begin, uint64_t end, bool stop_on_overflow,
+           Progress* progress, const std::function<bool(uint64_t)>& after_batch = nullptr) {
+    std::vector<SymbolId> ids;
     status = stream.ForEachLineBatch(
-        [&](const std::vector<std::string_view>& lines, uint64_t) {
+        [&](const std::vector<std::string_view>& lines, uint64_t batch_end) {
           uint64_t batch_bytes = 0;
+          ids.clear();
           for (const std::string_view line : lines) {
             symbolizer->Append(line, ids);
             batch_bytes += line.size();
           }
-          pipeline.Push(std::move(ids));
-          ids = pipeline.TakeBuffer();
+          Count(ids);
           if (progress != nullptr) progress->Advance(batch_bytes);
-          if (!stop_on_overflow) return true;
-          pipeline.Drain();
-          const std::vector<uint64_t>& counts = singles.counts();
-          overflowed = overflow_id < counts.size() && counts[overflow_id] != 0;
-          return !overflowed;
+          if (stop_on_overflow && CountedOverflow()) {
+            overflowed = true;
+            return false;
+          }
+          return after_batch == nullptr || after_batch(batch_end);
         },
         begin, end);
-    pipeline.Finish();
   }
+};
+
+// Hands a copy of the head's symbolizer, once its table is full, to the thread of a later part
+// whose own symbolizer overflowed (and so cannot be renumbered exactly). Thread-safe.
+class Handoff {
+ public:
+  // The later part's thread: asks for a copy and waits for it, or for the head to end without
+  // one (nullptr).
+  std::unique_ptr<Symbolizer> Await() {
+    std::unique_lock lock(mutex_);
+    wanted_.store(true, std::memory_order_relaxed);
+    changed_.wait(lock, [&] { return copy_ != nullptr || closed_; });
+    return std::move(copy_);
+  }
+  bool wanted() const { return wanted_.load(std::memory_order_relaxed); }
+  // The head's thread, at most once.
+  void Post(std::unique_ptr<Symbolizer> copy) {
+    std::lock_guard lock(mutex_);
+    copy_ = std::move(copy);
+    closed_ = true;
+    changed_.notify_all();
+  }
+  void Close() {
+    std::lock_guard lock(mutex_);
+    closed_ = true;
+    changed_.notify_all();
+  }
+  bool closed() {
+    std::lock_guard lock(mutex_);
+    return closed_;
+  }
+
+ private:
+  std::atomic<bool> wanted_{false};
+  std::mutex mutex_;
+  std::condition_variable changed_;
+  std::unique_ptr<Symbolizer> copy_;  // guarded by mutex_
+  bool closed_ = false;               // guarded by mutex_
 };
 
 OrderCounts FromCounter(const BlockCounter& counter) {
@@ -81,34 +156,34 @@ OrderCounts FromCounter(const BlockCounter& counter) {
   return {counter.blocks(), values.size(), PluginEntropyBits(values)};
 }
 
-// Renumbers the second half's ids into the first half's id space the way one sequential
-// symbolizer would have numbered them: tokens the first half knows keep its ids; new tokens
-// get fresh ids in order of first appearance until max_distinct tokens exist; later ones are
-// the overflow symbol (which the second half's own overflow also is: its table filled up
-// with tokens that all came earlier in the stream).
+// Renumbers a later part's ids into the head's id space the way one sequential symbolizer
+// would have numbered them: tokens the head knows keep its ids; new tokens get fresh ids in
+// order of first appearance until max_distinct tokens exist; later ones are the overflow
+// symbol. Exact when the later part's own symbolizer never overflowed, or when it is a copy of
+// the head's full one (then every id maps to itself).
 struct Renumbering {
-  std::vector<SymbolId> to_global;  // second-half id -> global id
-  std::vector<SymbolKey> new_keys;  // keys of global ids from first.IdLimit() on
+  std::vector<SymbolId> to_global;  // later-part id -> global id
+  std::vector<SymbolKey> new_keys;  // keys of global ids from head.IdLimit() on
 };
 
-Renumbering Renumber(const Symbolizer& first, const Symbolizer& second, uint32_t max_distinct) {
+Renumbering Renumber(const Symbolizer& head, const Symbolizer& later, uint32_t max_distinct) {
   std::unordered_map<SymbolKey, SymbolId> known;
   uint64_t tokens = 0;
-  for (SymbolId id = 0; id < first.IdLimit(); ++id) {
-    SymbolKey key = first.KeyOf(id);
+  for (SymbolId id = 0; id < head.IdLimit(); ++id) {
+    SymbolKey key = head.KeyOf(id);
     if (key != kEndOfRecordToken && key != kOverflowToken) ++tokens;
     known.emplace(std::move(key), id);
   }
   const SymbolId overflow = known.at(SymbolKey(kOverflowToken));
   Renumbering out;
-  out.to_global.resize(second.IdLimit());
-  for (SymbolId id = 0; id < second.IdLimit(); ++id) {
-    SymbolKey key = second.KeyOf(id);
+  out.to_global.resize(later.IdLimit());
+  for (SymbolId id = 0; id < later.IdLimit(); ++id) {
+    SymbolKey key = later.KeyOf(id);
     const auto found = known.find(key);
     if (found != known.end()) {
       out.to_global[id] = found->second;
     } else if (tokens + out.new_keys.size() < max_distinct) {
-      out.to_global[id] = first.IdLimit() + static_cast<SymbolId>(out.new_keys.size());
+      out.to_global[id] = head.IdLimit() + static_cast<SymbolId>(out.new_keys.size());
       out.new_keys.push_back(std::move(key));
     } else {
       out.to_global[id] = overflow;
@@ -143,70 +218,25 @@ std::vector<uint64_t> Resized(const std::vector<uint64_t>& counts, size_t size) 
   return out;
 }
 
-// The second half's symbolizer ran out of room (it stopped there): its overflow may hide tokens
-// the first half knows, so renumbering cannot be exact. The first half's symbolizer and
-// counters carry on through the second half instead, exactly as one sequential pass would,
-// with counting moved to a second thread so that the two stages at least overlap.
-Result<StreamCounts> ContinueSequentially(const CaptureStream& stream, uint64_t split, Half& first,
-                                          Progress* progress) {
-  const std::vector<uint64_t> older_counts = first.singles.counts();
-  first.Run(stream, split, stream.size(), true, progress);
-  if (!first.status.ok()) return first.status.error();
-  const Symbolizer& symbolizer = *first.symbolizer;
-  const size_t ids = symbolizer.IdLimit();
-  const std::vector<uint64_t> all = Resized(first.singles.counts(), ids);
-  const std::vector<uint64_t> older = Resized(older_counts, ids);
-  std::vector<uint64_t> newer(ids);
-  for (size_t id = 0; id < ids; ++id) newer[id] = all[id] - older[id];
-  StreamCounts out;
-  out.bytes = stream.size();
-  FillSingles(
-      older, newer, [&](size_t id) { return symbolizer.KeyOf(static_cast<SymbolId>(id)); }, out);
-  for (const auto& [order, counters] : first.blocks) out.orders[order] = FromCounter(counters[0]);
-  return out;
-}
-
-}  // namespace
-
-Result<StreamCounts> CountTokensInHalves(const CaptureStream& stream, const TokenOptions& options,
-                                         const std::set<int>& orders, bool parallel,
-                                         Progress* progress) {
-  const uint64_t middle = stream.size() / 2;
-  auto split = stream.LineEndAt(middle == 0 ? 0 : middle - 1);
-  if (!split.ok()) return split.error();
-
-  Half first(options, orders, false);
-  Half second(options, orders, true);
-  std::thread worker;
-  if (parallel) {
-    try {
-      worker =
-          std::thread([&] { second.Run(stream, split.value(), stream.size(), false, progress); });
-    } catch (const std::system_error&) {
-    }
-  }
-  first.Run(stream, 0, split.value(), false, progress);
-  if (worker.joinable()) {
-    worker.join();
-  } else {
-    second.Run(stream, split.value(), stream.size(), false, progress);
-  }
-  if (!first.status.ok()) return first.status.error();
-  if (!second.status.ok()) return second.status.error();
-  if (second.overflowed) return ContinueSequentially(stream, split.value(), first, progress);
-
-  const Symbolizer& a = *first.symbolizer;
-  const Renumbering renumbering = Renumber(a, *second.symbolizer, options.max_distinct);
+// Joins the head (from the stream's start) and the later part that follows it: order-1 counts
+// with the later part's ids renumbered (`older` is the head's count at the halves' split, by
+// head id), and blocks from the later part's counter whose phase continues the head's blocks,
+// plus the one block that straddles the cut.
+StreamCounts Join(const CaptureStream& stream, Half& head, const Half& later,
+                  const std::vector<uint64_t>& older_counts, uint32_t max_distinct) {
+  const Symbolizer& a = *head.symbolizer;
+  const Renumbering renumbering = Renumber(a, *later.symbolizer, max_distinct);
   const std::vector<SymbolId>& to_global = renumbering.to_global;
 
-  // Order 1: the first half is `older`, the renumbered second half `newer`.
   const size_t global_ids = a.IdLimit() + renumbering.new_keys.size();
-  const std::vector<uint64_t> older = Resized(first.singles.counts(), global_ids);
-  std::vector<uint64_t> newer(global_ids, 0);
-  const std::vector<uint64_t>& second_counts = second.singles.counts();
-  for (size_t id = 0; id < std::min(second_counts.size(), to_global.size()); ++id) {
-    newer[to_global[id]] += second_counts[id];
+  std::vector<uint64_t> all = Resized(head.singles.counts(), global_ids);
+  const std::vector<uint64_t>& later_counts = later.singles.counts();
+  for (size_t id = 0; id < std::min(later_counts.size(), to_global.size()); ++id) {
+    all[to_global[id]] += later_counts[id];
   }
+  const std::vector<uint64_t> older = Resized(older_counts, global_ids);
+  std::vector<uint64_t> newer(global_ids);
+  for (size_t id = 0; id < global_ids; ++id) newer[id] = all[id] - older[id];
   StreamCounts out;
   out.bytes = stream.size();
   FillSingles(
@@ -217,13 +247,11 @@ Result<StreamCounts> CountTokensInHalves(const CaptureStream& stream, const Toke
       },
       out);
 
-  // Blocks: the second half's counter whose phase continues the first half's blocks, its ids
-  // renumbered, plus the one block that straddles the cut.
-  const uint64_t first_symbols = first.singles.total();
-  for (auto& [order, counters] : first.blocks) {
+  const uint64_t head_symbols = head.singles.total();
+  for (auto& [order, counters] : head.blocks) {
     BlockCounter& merged = counters.front();
-    const auto phase = static_cast<size_t>((order - first_symbols % order) % order);
-    const BlockCounter& continued = second.blocks.at(order)[phase];
+    const auto phase = static_cast<size_t>((order - head_symbols % order) % order);
+    const BlockCounter& continued = later.blocks.at(order)[phase];
     if (phase > 0 && continued.head().size() == phase) {
       SymbolId straddle[4] = {};
       size_t k = 0;
@@ -239,6 +267,95 @@ Result<StreamCounts> CountTokensInHalves(const CaptureStream& stream, const Toke
     out.orders[order] = FromCounter(merged);
   }
   return out;
+}
+
+// The second half overflowed on its own and the head's table did not fill within the first
+// half. The head's symbolizer carries on through the second half until its table is full (it
+// must: the second half alone holds more than max_distinct tokens); from there on a copy of
+// it takes the last part on a second thread while the head does the middle.
+Result<StreamCounts> ContinueUntilFull(const CaptureStream& stream, uint64_t split, Half& head,
+                                       const TokenOptions& options, const std::set<int>& orders,
+                                       Progress* progress) {
+  const std::vector<uint64_t> older_counts = head.singles.counts();
+  uint64_t reached = split;
+  head.Run(stream, split, stream.size(), false, progress, [&](uint64_t batch_end) {
+    reached = batch_end;
+    return !Full(*head.symbolizer, options.max_distinct);
+  });
+  if (!head.status.ok()) return head.status.error();
+
+  uint64_t cut = stream.size();
+  std::unique_ptr<Symbolizer> copy;
+  if (stream.size() - reached >= kParallelTailMinBytes) {
+    auto middle = stream.LineEndAt(reached + (stream.size() - reached) / 2);
+    if (!middle.ok()) return middle.error();
+    copy = CopyOf(*head.symbolizer, options);
+    if (copy != nullptr) cut = middle.value();
+  }
+  Half tail(copy != nullptr ? std::move(copy) : MakeTokenSymbolizer(options), orders, true);
+  std::thread worker;
+  if (cut < stream.size()) {
+    worker = StartOrRun([&] { tail.Run(stream, cut, stream.size(), false, progress); });
+  }
+  head.Run(stream, reached, cut, false, progress);
+  if (worker.joinable()) worker.join();
+  if (!head.status.ok()) return head.status.error();
+  if (!tail.status.ok()) return tail.status.error();
+  return Join(stream, head, tail, older_counts, options.max_distinct);
+}
+
+}  // namespace
+
+Result<StreamCounts> CountTokensInHalves(const CaptureStream& stream, const TokenOptions& options,
+                                         const std::set<int>& orders, bool parallel,
+                                         Progress* progress) {
+  const uint64_t middle = stream.size() / 2;
+  auto split = stream.LineEndAt(middle == 0 ? 0 : middle - 1);
+  if (!split.ok()) return split.error();
+  const uint64_t end = stream.size();
+
+  Half first(MakeTokenSymbolizer(options), orders, false);
+  Half second(MakeTokenSymbolizer(options), orders, true);
+  std::optional<Half> frozen;  // the second half again, through a copy of the full head
+  Handoff handoff;
+  const auto second_half = [&] {
+    second.Run(stream, split.value(), end, true, progress);
+    if (!second.overflowed || !second.status.ok()) return;
+    // Its overflow may hide tokens the head knows: wait for the head's table to fill (usually
+    // early, when the capture has unbounded tokens) and redo the half with a copy of it.
+    std::unique_ptr<Symbolizer> copy = handoff.Await();
+    if (copy == nullptr) return;
+    frozen.emplace(std::move(copy), orders, true);
+    frozen->Run(stream, split.value(), end, false, progress);
+  };
+  std::thread worker;
+  if (parallel) {
+    try {
+      worker = std::thread(second_half);
+    } catch (const std::system_error&) {
+      // Runs after the first half below (never before it: it may wait for the head).
+    }
+  }
+  first.Run(stream, 0, split.value(), false, progress, [&](uint64_t) {
+    if (handoff.wanted() && !handoff.closed() && Full(*first.symbolizer, options.max_distinct)) {
+      handoff.Post(CopyOf(*first.symbolizer, options));
+    }
+    return true;
+  });
+  handoff.Close();
+  if (worker.joinable()) {
+    worker.join();
+  } else {
+    second_half();
+  }
+  if (!first.status.ok()) return first.status.error();
+  if (!second.status.ok()) return second.status.error();
+  if (frozen && !frozen->status.ok()) return frozen->status.error();
+
+  const std::vector<uint64_t> older_counts = first.singles.counts();
+  if (!second.overflowed) return Join(stream, first, second, older_counts, options.max_distinct);
+  if (frozen) return Join(stream, first, *frozen, older_counts, options.max_distinct);
+  return ContinueUntilFull(stream, split.value(), first, options, orders, progress);
 }
 
 }  // namespace codedrift::cli

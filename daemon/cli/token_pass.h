@@ -2,9 +2,11 @@
 // through its own token symbolizer, and the second half's ids are renumbered into the first's
 // afterwards, so every count equals that of one sequential pass (max_distinct overflow and
 // block boundaries included). When the second half's own symbolizer overflows, renumbering
-// cannot be exact (its overflow may hide tokens the first half knows), so the first half's
-// symbolizer carries on through the second half instead: correct, but no faster than one
-// thread. Captures with unbounded token sets want --mask-digits anyway.
+// cannot be exact (its overflow may hide tokens the first half knows); but a symbolizer whose
+// table is full never changes again, so as soon as the first half's table fills, a copy of it
+// redoes the second half on the second thread, with the same ids. If the first half ends
+// without filling it, its symbolizer carries on into the second half until it is full, and a
+// copy then takes the last part of the stream on the second thread.
 #pragma once
 
 #include <set>
