@@ -1,5 +1,8 @@
 #include "deflate_measure.h"
 
+#include <algorithm>
+#include <system_error>
+#include <thread>
 #include <vector>
 
 #include <zlib.h>
@@ -57,14 +60,14 @@ double DeflateMeasure::BitsPerByte() const {
              : 8.0 * static_cast<double>(compressed_bytes) / static_cast<double>(sampled_bytes);
 }
 
-Result<DeflateMeasure> MeasureDeflate(const CaptureStream& stream, uint64_t budget_bytes) {
+Result<DeflateMeasure> MeasureDeflate(const CaptureStream& stream, uint64_t budget_bytes,
+                                      int threads) {
   DeflateMeasure measure;
-  Deflater deflater;
-  if (!deflater.ok()) return Error{"zlib: deflateInit2 failed"};
   const uint64_t total = stream.size();
-  std::vector<char> buffer(kDeflateSampleBlockBytes);
-
   if (total <= budget_bytes) {
+    Deflater deflater;
+    if (!deflater.ok()) return Error{"zlib: deflateInit2 failed"};
+    std::vector<char> buffer(kDeflateSampleBlockBytes);
     uint64_t offset = 0;
     while (offset < total) {
       auto got = stream.ReadAt(offset, buffer.size(), buffer.data());
@@ -82,16 +85,49 @@ Result<DeflateMeasure> MeasureDeflate(const CaptureStream& stream, uint64_t budg
     return measure;
   }
 
+  // Each sample is its own raw stream, so the samples split across threads (every thread
+  // takes every `parts`-th one) and the compressed sizes add up to the same total.
   const uint64_t samples = budget_bytes / kDeflateSampleBlockBytes;
   const uint64_t last_start = total - kDeflateSampleBlockBytes;
-  for (uint64_t i = 0; i < samples; ++i) {
-    const uint64_t start = samples == 1 ? 0 : last_start * i / (samples - 1);
-    auto got = stream.ReadAt(start, buffer.size(), buffer.data());
-    if (!got.ok()) return got.error();
-    if (!deflater.Feed(buffer.data(), got.value(), true, measure.compressed_bytes)) {
-      return Error{"zlib: deflate failed"};
+  const auto parts =
+      static_cast<size_t>(std::clamp<uint64_t>(threads, 1, std::max<uint64_t>(samples, 1)));
+  std::vector<DeflateMeasure> partial(parts);
+  std::vector<Status> statuses(parts, Ok{});
+  const auto compress_samples = [&](size_t part) {
+    Deflater own;
+    std::vector<char> block(kDeflateSampleBlockBytes);
+    if (!own.ok()) {
+      statuses[part] = Error{"zlib: deflateInit2 failed"};
+      return;
     }
-    measure.sampled_bytes += got.value();
+    for (uint64_t i = part; i < samples; i += parts) {
+      const uint64_t start = samples == 1 ? 0 : last_start * i / (samples - 1);
+      auto got = stream.ReadAt(start, block.size(), block.data());
+      if (!got.ok()) {
+        statuses[part] = got.error();
+        return;
+      }
+      if (!own.Feed(block.data(), got.value(), true, partial[part].compressed_bytes)) {
+        statuses[part] = Error{"zlib: deflate failed"};
+        return;
+      }
+      partial[part].sampled_bytes += got.value();
+    }
+  };
+  std::vector<std::jthread> workers;
+  for (size_t part = 1; part < parts; ++part) {
+    try {
+      workers.emplace_back(compress_samples, part);
+    } catch (const std::system_error&) {
+      compress_samples(part);  // no thread available: the answer must not depend on it
+    }
+  }
+  compress_samples(0);
+  workers.clear();  // joins
+  for (size_t part = 0; part < parts; ++part) {
+    if (!statuses[part].ok()) return statuses[part].error();
+    measure.sampled_bytes += partial[part].sampled_bytes;
+    measure.compressed_bytes += partial[part].compressed_bytes;
   }
   return measure;
 }

@@ -22,7 +22,10 @@ struct DeflateMeasure {
 // Streams of at most `budget_bytes` are compressed whole, as one raw deflate stream (level 6,
 // windowBits -15). Longer ones: floor(budget / 1 MiB) evenly spaced 1 MiB blocks (the first
 // at the start, the last at the end), each compressed as its own raw stream. A budget below
-// 1 MiB on a longer stream compresses nothing.
-Result<DeflateMeasure> MeasureDeflate(const CaptureStream& stream, uint64_t budget_bytes);
+// 1 MiB on a longer stream compresses nothing. The samples of a longer stream are compressed on
+// up to `threads` threads (the figures do not depend on it); a whole stream is one zlib stream
+// and takes one thread. Blocks until done.
+Result<DeflateMeasure> MeasureDeflate(const CaptureStream& stream, uint64_t budget_bytes,
+                                      int threads = 1);
 
 }  // namespace codedrift::cli

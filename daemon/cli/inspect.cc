@@ -4,7 +4,10 @@
 #include <fstream>
 #include <iostream>
 #include <memory>
+#include <optional>
 #include <set>
+#include <system_error>
+#include <thread>
 
 #include "codedrift/entropy.h"
 #include "codedrift/huffman.h"
@@ -187,6 +190,23 @@ int RunInspect(const InspectOptions& options) {
     return kExitInvalidInput;
   }
 
+  // zlib manages tens of MB/s, far below counting, so its sample is compressed on threads of
+  // its own while the counting pass runs (the jthread joins on every return path).
+  const bool deflate_wanted =
+      source.value().alphabet.kind == AlphabetKind::kBytes && options.deflate_budget_mib > 0;
+  std::optional<Result<DeflateMeasure>> deflate;
+  std::jthread deflate_thread;
+  if (deflate_wanted) {
+    try {
+      deflate_thread = std::jthread([&] {
+        deflate = MeasureDeflate(stream.value(), options.deflate_budget_mib << 20,
+                                 CountingThreads(options.symbols));
+      });
+    } catch (const std::system_error&) {
+      // Measured after counting below, on this thread.
+    }
+  }
+
   const std::set<int> asked(options.orders.begin(), options.orders.end());
   std::set<int> counted = asked;
   counted.insert({1, 2});  // order 2 always: it gives conditional_entropy_bits
@@ -212,14 +232,15 @@ int RunInspect(const InspectOptions& options) {
   report.bytes = counts.bytes;
   AddSymbolFigures(counts, options, report);
   AddBlockFigures(counts, asked, report);
-  if (report.alphabet.kind == AlphabetKind::kBytes && options.deflate_budget_mib > 0) {
-    auto deflate = MeasureDeflate(stream.value(), options.deflate_budget_mib << 20);
-    if (!deflate.ok()) {
-      PrintError(kCommand, deflate.error().message);
+  if (deflate_wanted) {
+    if (deflate_thread.joinable()) deflate_thread.join();
+    if (!deflate) deflate = MeasureDeflate(stream.value(), options.deflate_budget_mib << 20);
+    if (!deflate->ok()) {
+      PrintError(kCommand, deflate->error().message);
       return kExitInvalidInput;
     }
-    report.deflate_sampled_bytes = deflate.value().sampled_bytes;
-    report.deflate_bits = deflate.value().BitsPerByte() * report.alphabet.block;
+    report.deflate_sampled_bytes = deflate->value().sampled_bytes;
+    report.deflate_bits = deflate->value().BitsPerByte() * report.alphabet.block;
   }
   if (table) {
     report.table =
