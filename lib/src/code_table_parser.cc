@@ -14,6 +14,7 @@
 #include "codedrift/code_table.h"
 
 #include "code_table_text.h"
+#include "daemon_config_text.h"
 
 namespace codedrift::table_parse {
 
@@ -45,7 +46,7 @@ std::string_view NodeKindName(const YAML::Node& node) {
 std::string UnknownKeyMessage(std::string_view where, std::string_view key,
                               std::span<const std::string_view> known) {
   std::string message = "unknown key '" + std::string(key) + "'" + std::string(where);
-  const std::string_view suggestion = table_text::ClosestWord(key, known);
+  const std::string_view suggestion = ClosestMatch(key, known);
   if (!suggestion.empty()) return message + " (did you mean '" + std::string(suggestion) + "'?)";
   message += " (expected one of: ";
   for (size_t i = 0; i < known.size(); ++i) {

@@ -2,7 +2,6 @@
 
 #include <algorithm>
 #include <charconv>
-#include <vector>
 
 namespace codedrift::table_text {
 namespace {
@@ -64,36 +63,6 @@ std::string ShortestDouble(double value) {
   auto [end, ec] = std::to_chars(buffer, buffer + sizeof buffer, value);
   if (ec != std::errc()) return "?";
   return std::string(buffer, end);
-}
-
-size_t EditDistance(std::string_view a, std::string_view b) {
-  std::vector<size_t> row(b.size() + 1);
-  for (size_t j = 0; j <= b.size(); ++j) row[j] = j;
-  for (size_t i = 1; i <= a.size(); ++i) {
-    size_t diagonal = row[0];
-    row[0] = i;
-    for (size_t j = 1; j <= b.size(); ++j) {
-      const size_t above = row[j];
-      row[j] = std::min({row[j] + 1, row[j - 1] + 1, diagonal + (a[i - 1] == b[j - 1] ? 0 : 1)});
-      diagonal = above;
-    }
-  }
-  return row[b.size()];
-}
-
-std::string_view ClosestWord(std::string_view word, std::span<const std::string_view> known) {
-  std::string_view best;
-  size_t best_distance = 0;
-  for (std::string_view candidate : known) {
-    const size_t distance = EditDistance(word, candidate);
-    if (best.empty() || distance < best_distance) {
-      best = candidate;
-      best_distance = distance;
-    }
-  }
-  // A typo changes a few characters; beyond a third of the word it is a different word.
-  const size_t limit = std::max<size_t>(2, word.size() / 3);
-  return best_distance <= limit ? best : std::string_view();
 }
 
 }  // namespace codedrift::table_text

@@ -1,8 +1,7 @@
-// Text helpers shared by the code-table reader and writer: YAML scalar quoting, number
-// formatting and did-you-mean suggestions. Private to the library.
+// Text helpers shared by the code-table reader and writer: YAML scalar quoting and number
+// formatting (did-you-mean suggestions come from daemon_config_text.h). Private to the library.
 #pragma once
 
-#include <span>
 #include <string>
 #include <string_view>
 
@@ -18,11 +17,5 @@ std::string Scalar(std::string_view text);
 
 // The shortest decimal text that reads back as `value` ("1", "1.25", "0.9999999999999999").
 std::string ShortestDouble(double value);
-
-// Levenshtein distance (insertions, deletions, substitutions each cost 1).
-size_t EditDistance(std::string_view a, std::string_view b);
-
-// The closest of `known` to `word` when it is plausibly a typo of it, else empty.
-std::string_view ClosestWord(std::string_view word, std::span<const std::string_view> known);
 
 }  // namespace codedrift::table_text

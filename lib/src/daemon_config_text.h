@@ -1,5 +1,5 @@
-// Text helpers for config error messages: quoting user text safely, and did-you-mean
-// suggestions by edit distance. Internal to the library.
+// Text helpers for config, scenario and code-table error messages: quoting user text safely,
+// and did-you-mean suggestions by edit distance. Internal to the library.
 #pragma once
 
 #include <initializer_list>
