@@ -60,7 +60,7 @@ int RunCheck(const CheckOptions& options) {
   const CodeTable& table = loaded.value();
   TextTable rows({Align::kLeft, Align::kLeft});
   rows.AddRow({"table", options.table_path});
-  rows.AddRow({"kind", KindName(table.kind)});
+  rows.AddRow({"kind", std::string(CodeKindName(table.kind))});
   rows.AddRow({"alphabet", table.alphabet.ToString()});
   rows.AddRow({"symbols", SymbolCount(table)});
   if (table.kind == CodeKind::kFixed) {

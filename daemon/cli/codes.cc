@@ -27,7 +27,7 @@ int RunCodes(const CodesOptions& options) {
   }
   const CodeTable& table = loaded.value();
   if (table.kind != CodeKind::kPrefix) {
-    PrintError(kCommand, options.table_path + ": a " + KindName(table.kind) +
+    PrintError(kCommand, options.table_path + ": a " + std::string(CodeKindName(table.kind)) +
                              " table has no codeword lengths; codes needs a prefix table");
     return kExitInvalidInput;
   }

@@ -2,18 +2,6 @@
 
 namespace codedrift::cli {
 
-std::string KindName(CodeKind kind) {
-  switch (kind) {
-    case CodeKind::kPrefix:
-      return "prefix";
-    case CodeKind::kFixed:
-      return "fixed";
-    case CodeKind::kFrequencies:
-      return "frequencies";
-  }
-  return "?";
-}
-
 std::string CoverageProblem(const CodeTable& table) {
   if (table.CoversWholeAlphabet()) return "";
   return "the table has no escape and does not cover every " + table.alphabet.ToString() +

@@ -7,8 +7,6 @@
 
 namespace codedrift::cli {
 
-std::string KindName(CodeKind kind);
-
 // Why a table is not deployable as it stands, or empty when it is: it must code every symbol
 // its alphabet can produce (an escape, or full coverage of a bounded alphabet).
 std::string CoverageProblem(const CodeTable& table);

@@ -29,6 +29,18 @@ void AppendSection(std::string& out, std::string_view name, const Map& entries, 
 
 }  // namespace
 
+std::string_view CodeKindName(CodeKind kind) {
+  switch (kind) {
+    case CodeKind::kPrefix:
+      return "prefix";
+    case CodeKind::kFixed:
+      return "fixed";
+    case CodeKind::kFrequencies:
+      return "frequencies";
+  }
+  return "?";
+}
+
 std::string FormatCodeTable(const CodeTable& table) {
   const Alphabet& alphabet = table.alphabet;
   auto symbol = [&alphabet](const SymbolKey& key) {
@@ -37,17 +49,9 @@ std::string FormatCodeTable(const CodeTable& table) {
   std::string out = "# codedrift code table\n";
   out += "table: 1\n";
   out += "alphabet: " + alphabet.ToString() + "\n";
-  switch (table.kind) {
-    case CodeKind::kPrefix:
-      out += "kind: prefix\n";
-      break;
-    case CodeKind::kFixed:
-      out += "kind: fixed\n";
-      break;
-    case CodeKind::kFrequencies:
-      out += "kind: frequencies\n";
-      break;
-  }
+  out += "kind: ";
+  out += CodeKindName(table.kind);
+  out += "\n";
   out += "max_length: " + std::to_string(table.max_length) + "\n";
   if (table.escape && table.kind == CodeKind::kPrefix) {
     out += "escape: {length: " + std::to_string(table.escape->length) +

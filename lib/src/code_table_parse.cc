@@ -23,7 +23,6 @@ namespace codedrift {
 namespace {
 
 using table_parse::Entry;
-using table_parse::KindName;
 using table_parse::NodeKindName;
 using table_parse::TableParser;
 
@@ -115,8 +114,9 @@ Result<CodeTable> TableParser::Parse(const YAML::Node& root) {
     const std::string name = entry.key.Scalar();
     const auto owner = OwnerKind(name);
     if (owner && *owner != table_.kind) {
-      return At(entry.line, "'" + name + "' belongs to kind " + std::string(KindName(*owner)) +
-                                ", but this table is kind " + std::string(KindName(table_.kind)));
+      return At(entry.line, "'" + name + "' belongs to kind " + std::string(CodeKindName(*owner)) +
+                                ", but this table is kind " +
+                                std::string(CodeKindName(table_.kind)));
     }
     if (name == "escape" && table_.kind == CodeKind::kFixed) {
       return At(entry.line, "kind fixed takes no escape: a fixed code covers every symbol");
@@ -139,7 +139,7 @@ Result<CodeTable> TableParser::Parse(const YAML::Node& root) {
   const Entry* body = find(section);
   if (body == nullptr) {
     return At(root_line, "missing required key '" + std::string(section) + "' (kind " +
-                             std::string(KindName(table_.kind)) + ")");
+                             std::string(CodeKindName(table_.kind)) + ")");
   }
   Status status = table_.kind == CodeKind::kPrefix ? ParsePrefix(*body, escape)
                   : table_.kind == CodeKind::kFixed

@@ -18,18 +18,6 @@
 
 namespace codedrift::table_parse {
 
-std::string_view KindName(CodeKind kind) {
-  switch (kind) {
-    case CodeKind::kPrefix:
-      return "prefix";
-    case CodeKind::kFixed:
-      return "fixed";
-    case CodeKind::kFrequencies:
-      return "frequencies";
-  }
-  return "?";
-}
-
 std::string_view NodeKindName(const YAML::Node& node) {
   switch (node.Type()) {
     case YAML::NodeType::Map:

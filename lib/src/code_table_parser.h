@@ -17,7 +17,6 @@ namespace codedrift::table_parse {
 
 inline constexpr std::string_view kEscapeKeys[] = {"length", "frequency", "literal_bits"};
 
-std::string_view KindName(CodeKind kind);
 // "a mapping", "a sequence", "a scalar" or "nothing", for messages.
 std::string_view NodeKindName(const YAML::Node& node);
 // "unknown key 'x'<where>" with a did-you-mean, or the list of known keys when none is close.

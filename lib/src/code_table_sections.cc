@@ -46,7 +46,7 @@ Status TableParser::ParseEscape(const Entry& entry) {
       cost = value.value();
     } else if (name == "length" || name == "frequency") {
       return At(field.line, "escape '" + name + "' does not fit kind " +
-                                std::string(KindName(table_.kind)) + " (its escape has '" +
+                                std::string(CodeKindName(table_.kind)) + " (its escape has '" +
                                 std::string(cost_key) + "')");
     } else {
       return At(field.line, UnknownKeyMessage(" in escape", name, kEscapeKeys));

@@ -186,6 +186,13 @@ TEST(CodeTableFormat, WritesHeaderAndSymbolsInOrder) {
   EXPECT_NE(text.find("lengths:\n  2: 2\n  10: 1\n  300: 2\n"), std::string::npos) << text;
 }
 
+// The three words of DESIGN.md section 5's `kind:` key.
+TEST(CodeTableFormat, KindNamesAreTheFileWords) {
+  EXPECT_EQ(CodeKindName(CodeKind::kPrefix), "prefix");
+  EXPECT_EQ(CodeKindName(CodeKind::kFixed), "fixed");
+  EXPECT_EQ(CodeKindName(CodeKind::kFrequencies), "frequencies");
+}
+
 TEST(CodeTableParse, ReadsTheDesignExample) {
   // The example of DESIGN.md section 5, comments included.
   const std::string text =

@@ -22,6 +22,7 @@
 #include <optional>
 #include <span>
 #include <string>
+#include <string_view>
 #include <unordered_map>
 #include <vector>
 
@@ -32,6 +33,9 @@
 namespace codedrift {
 
 enum class CodeKind { kPrefix, kFixed, kFrequencies };
+
+// The word a table file's `kind:` key uses for `kind`: "prefix", "fixed" or "frequencies".
+std::string_view CodeKindName(CodeKind kind);
 
 struct EscapeCode {
   int length = 0;        // prefix: bits of the escape codeword (frequencies: unused, 0; the
