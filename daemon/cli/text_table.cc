@@ -3,6 +3,8 @@
 #include <algorithm>
 #include <cstdio>
 
+#include "codedrift/code_table.h"
+
 namespace codedrift::cli {
 
 void TextTable::AddRow(std::vector<std::string> cells) { rows_.push_back(std::move(cells)); }
@@ -44,36 +46,7 @@ std::string FormatNumber(double value, int decimals) {
 
 std::string DisplayKey(const Alphabet& alphabet, const SymbolKey& key) {
   if (alphabet.kind != AlphabetKind::kTokens) return alphabet.FormatKey(key);
-  std::string out = "\"";
-  for (const unsigned char c : key) {
-    switch (c) {
-      case '\n':
-        out += "\\n";
-        break;
-      case '\t':
-        out += "\\t";
-        break;
-      case '\r':
-        out += "\\r";
-        break;
-      case '"':
-        out += "\\\"";
-        break;
-      case '\\':
-        out += "\\\\";
-        break;
-      default:
-        if (c < 0x20 || c == 0x7f) {
-          char hex[8];
-          std::snprintf(hex, sizeof hex, "\\x%02x", c);
-          out += hex;
-        } else {
-          out += static_cast<char>(c);
-        }
-    }
-  }
-  out += '"';
-  return out;
+  return QuoteToken(key);
 }
 
 }  // namespace codedrift::cli

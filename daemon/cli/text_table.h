@@ -29,7 +29,8 @@ class TextTable {
 std::string FormatNumber(double value, int decimals = 6);
 
 // A symbol as a person reads it: bytes as in table files (0x41), tokens in double quotes with
-// C-style escapes ("\n" is the end-of-record token, "" the overflow token).
+// C-style escapes as table files quote them (QuoteToken: "\n" is the end-of-record token, ""
+// the overflow token).
 std::string DisplayKey(const Alphabet& alphabet, const SymbolKey& key);
 
 }  // namespace codedrift::cli

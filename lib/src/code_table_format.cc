@@ -41,6 +41,8 @@ std::string_view CodeKindName(CodeKind kind) {
   return "?";
 }
 
+std::string QuoteToken(std::string_view token) { return table_text::DoubleQuoted(token); }
+
 std::string FormatCodeTable(const CodeTable& table) {
   const Alphabet& alphabet = table.alphabet;
   auto symbol = [&alphabet](const SymbolKey& key) {

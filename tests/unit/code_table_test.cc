@@ -193,6 +193,25 @@ TEST(CodeTableFormat, KindNamesAreTheFileWords) {
   EXPECT_EQ(CodeKindName(CodeKind::kFrequencies), "frequencies");
 }
 
+// Escapes as code_table.h's format notes spell them (\", \\, \n, \t, \r and \xNN are YAML
+// 1.2 double-quoted escapes, section 5.7 of the YAML spec, from memory); each quoted token
+// reads back as the token in a table file.
+TEST(CodeTableFormat, QuoteTokenEscapesAsTableFilesReadThem) {
+  const std::string awkward("a\"b\\c\t\r\x01\x7f\xc3\xa9", 11);
+  EXPECT_EQ(QuoteToken("GET"), "\"GET\"");
+  EXPECT_EQ(QuoteToken(kOverflowToken), "\"\"");
+  EXPECT_EQ(QuoteToken(kEndOfRecordToken), "\"\\n\"");
+  EXPECT_EQ(QuoteToken(awkward), "\"a\\\"b\\\\c\\t\\r\\x01\\x7f\xc3\xa9\"");
+  for (const std::string& token :
+       {std::string("GET"), std::string(kOverflowToken), std::string(kEndOfRecordToken), awkward}) {
+    auto table = ParseCodeTable(
+        "table: 1\nalphabet: tokens\nkind: prefix\nlengths:\n  " + QuoteToken(token) + ": 1\n",
+        "quoted.table");
+    ASSERT_TRUE(table.ok()) << table.error().message;
+    EXPECT_EQ(table.value().lengths.count(token), 1u) << QuoteToken(token);
+  }
+}
+
 TEST(CodeTableParse, ReadsTheDesignExample) {
   // The example of DESIGN.md section 5, comments included.
   const std::string text =

@@ -37,6 +37,10 @@ enum class CodeKind { kPrefix, kFixed, kFrequencies };
 // The word a table file's `kind:` key uses for `kind`: "prefix", "fixed" or "frequencies".
 std::string_view CodeKindName(CodeKind kind);
 
+// A token as a table file writes it in double quotes: quote and backslash escaped, control
+// bytes as \n, \t, \r or \xNN, bytes >= 0x80 as they are. Tools show tokens this way too.
+std::string QuoteToken(std::string_view token);
+
 struct EscapeCode {
   int length = 0;        // prefix: bits of the escape codeword (frequencies: unused, 0; the
                          // escape's cost comes from CodeTable::escape_frequency)
