@@ -6,6 +6,7 @@
 
 #include "codedrift/entropy.h"
 
+#include "optional_figure.h"
 #include "text_table.h"
 
 namespace codedrift::cli {
@@ -34,10 +35,6 @@ std::string TooFew(const std::string& side, const CompareSide& figures) {
          " distinct values (fewer than 10 each), so its estimates are rough";
 }
 
-nlohmann::ordered_json OrNull(const std::optional<double>& value) {
-  return value ? nlohmann::ordered_json(*value) : nlohmann::ordered_json(nullptr);
-}
-
 nlohmann::ordered_json SideJson(const CompareSide& side, bool with_table) {
   nlohmann::ordered_json json;
   json["file"] = side.file;
@@ -48,15 +45,11 @@ nlohmann::ordered_json SideJson(const CompareSide& side, bool with_table) {
   json["entropy_mm_bits"] = side.entropy_mm_bits;
   json["entropy_stderr_bits"] = side.entropy_stderr_bits;
   if (with_table) {
-    json["deployed_mean_bits"] = OrNull(side.deployed_mean_bits);
-    json["redundancy_bits"] = OrNull(side.redundancy_bits);
+    json["deployed_mean_bits"] = NumberOrNull(side.deployed_mean_bits);
+    json["redundancy_bits"] = NumberOrNull(side.redundancy_bits);
     json["unknown_symbols"] = side.unknown_symbols;
   }
   return json;
-}
-
-std::string OrDash(const std::optional<double>& value) {
-  return value ? FormatNumber(*value) : "-";
 }
 
 // Difference B - A when both are defined.
@@ -143,8 +136,8 @@ nlohmann::ordered_json CompareJson(const CompareReport& report) {
   json["only_b_symbols"] = report.only_b_symbols;
   json["total_variation"] = report.total_variation;
   json["js_divergence_bits"] = report.js_divergence_bits;
-  json["relative_entropy_a_b_bits"] = OrNull(report.relative_entropy_a_b_bits);
-  json["relative_entropy_b_a_bits"] = OrNull(report.relative_entropy_b_a_bits);
+  json["relative_entropy_a_b_bits"] = NumberOrNull(report.relative_entropy_a_b_bits);
+  json["relative_entropy_b_a_bits"] = NumberOrNull(report.relative_entropy_b_a_bits);
   nlohmann::ordered_json moved = nlohmann::ordered_json::array();
   for (const MovedSymbol& symbol : report.top_moved) {
     moved.push_back({{"symbol", symbol.symbol},
@@ -180,11 +173,11 @@ std::string CompareText(const CompareReport& report) {
   sides.AddRow({"entropy standard error (i.i.d.)", FormatNumber(a.entropy_stderr_bits),
                 FormatNumber(b.entropy_stderr_bits), "", "bits/symbol"});
   if (report.table) {
-    sides.AddRow({"mean length under the table", OrDash(a.deployed_mean_bits),
-                  OrDash(b.deployed_mean_bits), Change(a.deployed_mean_bits, b.deployed_mean_bits),
-                  "bits/symbol"});
-    sides.AddRow({"redundancy (mean length - entropy)", OrDash(a.redundancy_bits),
-                  OrDash(b.redundancy_bits), Change(a.redundancy_bits, b.redundancy_bits),
+    sides.AddRow({"mean length under the table", NumberOrDash(a.deployed_mean_bits),
+                  NumberOrDash(b.deployed_mean_bits),
+                  Change(a.deployed_mean_bits, b.deployed_mean_bits), "bits/symbol"});
+    sides.AddRow({"redundancy (mean length - entropy)", NumberOrDash(a.redundancy_bits),
+                  NumberOrDash(b.redundancy_bits), Change(a.redundancy_bits, b.redundancy_bits),
                   "bits/symbol"});
     sides.AddRow({"symbols the table does not cover", std::to_string(a.unknown_symbols),
                   std::to_string(b.unknown_symbols), "", "occurrences"});

@@ -1,17 +1,10 @@
 #include "inspect_report.h"
 
+#include "optional_figure.h"
 #include "text_table.h"
 
 namespace codedrift::cli {
 namespace {
-
-nlohmann::ordered_json OrNull(const std::optional<double>& value) {
-  return value ? nlohmann::ordered_json(*value) : nlohmann::ordered_json(nullptr);
-}
-
-std::string OrDash(const std::optional<double>& value) {
-  return value ? FormatNumber(*value) : "-";
-}
 
 std::string Percent(const std::optional<double>& ratio) {
   return ratio ? FormatNumber(100.0 * *ratio, 2) : "-";
@@ -19,12 +12,13 @@ std::string Percent(const std::optional<double>& ratio) {
 
 void AddTableRows(const TableReport& table, TextTable& rows) {
   rows.AddRow({"table", table.path, ""});
-  rows.AddRow({"deployed code", OrDash(table.deployed_mean_bits), "bits/symbol"});
-  rows.AddRow({"redundancy (deployed - entropy)", OrDash(table.redundancy_bits), "bits/symbol"});
+  rows.AddRow({"deployed code", NumberOrDash(table.deployed_mean_bits), "bits/symbol"});
+  rows.AddRow(
+      {"redundancy (deployed - entropy)", NumberOrDash(table.redundancy_bits), "bits/symbol"});
   rows.AddRow({"Kraft sum", FormatNumber(table.kraft_sum, 9), ""});
   rows.AddRow({"unknown symbols", std::to_string(table.unknown_symbols), "occurrences"});
   rows.AddRow(
-      {"retrained code (1st half -> 2nd)", OrDash(table.retrained_mean_bits), "bits/symbol"});
+      {"retrained code (1st half -> 2nd)", NumberOrDash(table.retrained_mean_bits), "bits/symbol"});
   rows.AddRow({"saving, out of sample", Percent(table.saving_ratio), "%"});
   rows.AddRow({"saving, ideal bound", Percent(table.saving_ideal_ratio), "%"});
 }
@@ -52,26 +46,26 @@ nlohmann::ordered_json InspectJson(const InspectReport& report) {
   json["entropy_stderr_bits"] = report.entropy_stderr_bits;
   json["fixed_length_bits"] = report.fixed_length_bits;
   json["huffman_mean_bits"] = report.huffman_mean_bits;
-  json["huffman_limited_mean_bits"] = OrNull(report.huffman_limited_mean_bits);
+  json["huffman_limited_mean_bits"] = NumberOrNull(report.huffman_limited_mean_bits);
   json["max_length"] = report.max_length;
   nlohmann::ordered_json blocks = nlohmann::ordered_json::object();
   for (const auto& [order, bits] : report.block_entropy_bits) {
     blocks[std::to_string(order)] = bits;
   }
   json["block_entropy_bits"] = blocks;
-  json["conditional_entropy_bits"] = OrNull(report.conditional_entropy_bits);
-  json["deflate_bits"] = OrNull(report.deflate_bits);
+  json["conditional_entropy_bits"] = NumberOrNull(report.conditional_entropy_bits);
+  json["deflate_bits"] = NumberOrNull(report.deflate_bits);
   json["deflate_sampled_bytes"] = report.deflate_sampled_bytes;
   if (report.table) {
     const TableReport& table = *report.table;
     json["table"] = table.path;
-    json["deployed_mean_bits"] = OrNull(table.deployed_mean_bits);
-    json["redundancy_bits"] = OrNull(table.redundancy_bits);
+    json["deployed_mean_bits"] = NumberOrNull(table.deployed_mean_bits);
+    json["redundancy_bits"] = NumberOrNull(table.redundancy_bits);
     json["kraft_sum"] = table.kraft_sum;
     json["unknown_symbols"] = table.unknown_symbols;
-    json["saving_ratio"] = OrNull(table.saving_ratio);
-    json["saving_ideal_ratio"] = OrNull(table.saving_ideal_ratio);
-    json["retrained_mean_bits"] = OrNull(table.retrained_mean_bits);
+    json["saving_ratio"] = NumberOrNull(table.saving_ratio);
+    json["saving_ideal_ratio"] = NumberOrNull(table.saving_ideal_ratio);
+    json["retrained_mean_bits"] = NumberOrNull(table.retrained_mean_bits);
     nlohmann::ordered_json drift = nlohmann::ordered_json::array();
     for (const DriftRow& row : table.top_drift) {
       drift.push_back({{"symbol", row.symbol},
@@ -97,15 +91,15 @@ std::string InspectText(const InspectReport& report) {
   rows.AddRow({"fixed-length code", std::to_string(report.fixed_length_bits), "bits/symbol"});
   rows.AddRow({"Huffman code", FormatNumber(report.huffman_mean_bits), "bits/symbol"});
   rows.AddRow({"Huffman code, lengths <= " + std::to_string(report.max_length),
-               OrDash(report.huffman_limited_mean_bits), "bits/symbol"});
+               NumberOrDash(report.huffman_limited_mean_bits), "bits/symbol"});
   for (const auto& [order, bits] : report.block_entropy_bits) {
     rows.AddRow({"block entropy H(S^" + std::to_string(order) + ")/" + std::to_string(order),
                  FormatNumber(bits), "bits/symbol"});
   }
-  rows.AddRow({"conditional entropy H(S^2) - H(S)", OrDash(report.conditional_entropy_bits),
+  rows.AddRow({"conditional entropy H(S^2) - H(S)", NumberOrDash(report.conditional_entropy_bits),
                "bits/symbol"});
   if (report.alphabet.kind == AlphabetKind::kBytes) {
-    rows.AddRow({"deflate (zlib level 6)", OrDash(report.deflate_bits), "bits/symbol"});
+    rows.AddRow({"deflate (zlib level 6)", NumberOrDash(report.deflate_bits), "bits/symbol"});
     rows.AddRow({"deflate sample", std::to_string(report.deflate_sampled_bytes), "bytes"});
   }
   std::string out;
