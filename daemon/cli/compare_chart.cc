@@ -18,12 +18,6 @@ constexpr double kBottom = 96;  // room for the rotated symbol labels
 constexpr char kColorA[] = "#3366aa";
 constexpr char kColorB[] = "#d9822b";
 
-std::string Num(double value) {
-  char buffer[32];
-  std::snprintf(buffer, sizeof buffer, "%.1f", value);
-  return buffer;
-}
-
 std::string Percent(double probability) {
   char buffer[32];
   std::snprintf(buffer, sizeof buffer, "%.3f%%", 100.0 * probability);
@@ -59,30 +53,31 @@ std::string RenderDistributionChart(const DistributionChart& chart) {
   const double bar_width = slot * 0.38;
   const auto y_of = [&](double p) { return kHeight - kBottom - plot_height * p / top; };
 
-  std::string svg = "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"" + Num(kWidth) +
-                    "\" height=\"" + Num(kHeight) + "\" viewBox=\"0 0 " + Num(kWidth) + " " +
-                    Num(kHeight) + "\" font-family=\"sans-serif\" font-size=\"12\">\n";
+  std::string svg = "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"" + SvgNumber(kWidth) +
+                    "\" height=\"" + SvgNumber(kHeight) + "\" viewBox=\"0 0 " + SvgNumber(kWidth) +
+                    " " + SvgNumber(kHeight) + "\" font-family=\"sans-serif\" font-size=\"12\">\n";
   svg += "<rect width=\"100%\" height=\"100%\" fill=\"#fbfbf8\"/>\n";
-  svg += "<text x=\"" + Num(kLeft) + "\" y=\"24\" font-size=\"15\" font-weight=\"bold\">" +
+  svg += "<text x=\"" + SvgNumber(kLeft) + "\" y=\"24\" font-size=\"15\" font-weight=\"bold\">" +
          SvgEscape(chart.title) + "</text>\n";
   // Legend under the title.
-  svg += "<rect x=\"" + Num(kLeft) + "\" y=\"34\" width=\"12\" height=\"12\" fill=\"" + kColorA +
-         "\"/><text x=\"" + Num(kLeft + 18) + "\" y=\"45\">" + SvgEscape(chart.name_a) +
+  svg += "<rect x=\"" + SvgNumber(kLeft) + "\" y=\"34\" width=\"12\" height=\"12\" fill=\"" +
+         kColorA + "\"/><text x=\"" + SvgNumber(kLeft + 18) + "\" y=\"45\">" +
+         SvgEscape(chart.name_a) + "</text>\n";
+  svg += "<rect x=\"" + SvgNumber(kLeft + plot_width / 2) +
+         "\" y=\"34\" width=\"12\" height=\"12\" " + "fill=\"" + kColorB + "\"/><text x=\"" +
+         SvgNumber(kLeft + plot_width / 2 + 18) + "\" y=\"45\">" + SvgEscape(chart.name_b) +
          "</text>\n";
-  svg += "<rect x=\"" + Num(kLeft + plot_width / 2) + "\" y=\"34\" width=\"12\" height=\"12\" " +
-         "fill=\"" + kColorB + "\"/><text x=\"" + Num(kLeft + plot_width / 2 + 18) +
-         "\" y=\"45\">" + SvgEscape(chart.name_b) + "</text>\n";
 
   for (double p = 0; p <= top + step / 2; p += step) {
     const double y = y_of(p);
-    svg += "<line x1=\"" + Num(kLeft) + "\" y1=\"" + Num(y) + "\" x2=\"" + Num(kWidth - kRight) +
-           "\" y2=\"" + Num(y) + "\" stroke=\"#e2e2dc\"/>\n";
+    svg += "<line x1=\"" + SvgNumber(kLeft) + "\" y1=\"" + SvgNumber(y) + "\" x2=\"" +
+           SvgNumber(kWidth - kRight) + "\" y2=\"" + SvgNumber(y) + "\" stroke=\"#e2e2dc\"/>\n";
     char label[32];
     std::snprintf(label, sizeof label, "%g", p);
-    svg += "<text x=\"" + Num(kLeft - 8) + "\" y=\"" + Num(y + 4) + "\" text-anchor=\"end\">" +
-           label + "</text>\n";
+    svg += "<text x=\"" + SvgNumber(kLeft - 8) + "\" y=\"" + SvgNumber(y + 4) +
+           "\" text-anchor=\"end\">" + label + "</text>\n";
   }
-  svg += "<text transform=\"translate(18 " + Num(kTop + plot_height / 2) +
+  svg += "<text transform=\"translate(18 " + SvgNumber(kTop + plot_height / 2) +
          ") rotate(-90)\" text-anchor=\"middle\">probability</text>\n";
 
   for (size_t i = 0; i < bars.size(); ++i) {
@@ -90,22 +85,23 @@ std::string RenderDistributionChart(const DistributionChart& chart) {
     const double x = kLeft + slot * static_cast<double>(i) + slot * 0.12;
     const std::string label = SvgEscape(bar.label);
     const auto draw = [&](double at, double p, const char* color, const char* side) {
-      svg += "<rect class=\"bar-" + std::string(side) + "\" x=\"" + Num(at) + "\" y=\"" +
-             Num(y_of(p)) + "\" width=\"" + Num(bar_width) + "\" height=\"" +
-             Num(y_of(0) - y_of(p)) + "\" fill=\"" + color + "\"><title>" + label + " " + side +
-             ": " + Percent(p) + "</title></rect>\n";
+      svg += "<rect class=\"bar-" + std::string(side) + "\" x=\"" + SvgNumber(at) + "\" y=\"" +
+             SvgNumber(y_of(p)) + "\" width=\"" + SvgNumber(bar_width) + "\" height=\"" +
+             SvgNumber(y_of(0) - y_of(p)) + "\" fill=\"" + color + "\"><title>" + label + " " +
+             side + ": " + Percent(p) + "</title></rect>\n";
     };
     draw(x, bar.probability_a, kColorA, "a");
     draw(x + bar_width, bar.probability_b, kColorB, "b");
     const double label_x = x + bar_width;
     const double label_y = kHeight - kBottom + 12;
-    svg += "<text transform=\"translate(" + Num(label_x) + " " + Num(label_y) +
+    svg += "<text transform=\"translate(" + SvgNumber(label_x) + " " + SvgNumber(label_y) +
            ") rotate(-60)\" text-anchor=\"end\" font-size=\"10\">" + label + "</text>\n";
   }
-  svg += "<rect x=\"" + Num(kLeft) + "\" y=\"" + Num(kTop) + "\" width=\"" + Num(plot_width) +
-         "\" height=\"" + Num(plot_height) + "\" fill=\"none\" stroke=\"#888\"/>\n";
+  svg += "<rect x=\"" + SvgNumber(kLeft) + "\" y=\"" + SvgNumber(kTop) + "\" width=\"" +
+         SvgNumber(plot_width) + "\" height=\"" + SvgNumber(plot_height) +
+         "\" fill=\"none\" stroke=\"#888\"/>\n";
   if (cut) {
-    svg += "<text x=\"" + Num(kWidth - kRight) + "\" y=\"24\" text-anchor=\"end\">the " +
+    svg += "<text x=\"" + SvgNumber(kWidth - kRight) + "\" y=\"24\" text-anchor=\"end\">the " +
            std::to_string(kMaxDistributionBars) + " most probable symbols are shown</text>\n";
   }
   svg += "</svg>\n";

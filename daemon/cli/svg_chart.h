@@ -31,4 +31,8 @@ std::string RenderLengthChart(const LengthChart& chart);
 // entities, control bytes and bytes above 0x7f as '?' (a token need not be UTF-8).
 std::string SvgEscape(const std::string& text);
 
+// A coordinate or size as SVG attribute text, to one decimal ("12.5"): finer than a pixel
+// needs, and short.
+std::string SvgNumber(double value);
+
 }  // namespace codedrift::cli
