@@ -31,13 +31,7 @@ void EvaluationLoop::Run() {
   std::unique_lock lock(mutex_);
   while (!stopping_) {
     wake_.wait_until(lock, next, [this] { return stopping_ || !tasks_.empty(); });
-    while (!tasks_.empty()) {
-      auto task = std::move(tasks_.front());
-      tasks_.pop_front();
-      lock.unlock();
-      task();
-      lock.lock();
-    }
+    RunQueuedTasks(lock);
     if (stopping_) break;
     if (std::chrono::steady_clock::now() >= next) {
       lock.unlock();
@@ -50,6 +44,10 @@ void EvaluationLoop::Run() {
     }
   }
   // Tasks posted while stopping are answered rather than left waiting.
+  RunQueuedTasks(lock);
+}
+
+void EvaluationLoop::RunQueuedTasks(std::unique_lock<std::mutex>& lock) {
   while (!tasks_.empty()) {
     auto task = std::move(tasks_.front());
     tasks_.pop_front();

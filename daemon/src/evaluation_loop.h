@@ -25,6 +25,8 @@ class EvaluationLoop {
 
  private:
   void Run();
+  // Runs every queued task with `lock` (on mutex_) released around each; returns locked.
+  void RunQueuedTasks(std::unique_lock<std::mutex>& lock);
 
   const std::chrono::milliseconds interval_;
   const std::function<void()> tick_;
