@@ -4,13 +4,13 @@
 // reference parse of the whole stream: frames up to the first length above max_record_bytes
 // (after which nothing more is delivered), then truncated_frame when the stream ends inside a
 // header or a body. A framer reused after Finish behaves like a new one.
-#include <algorithm>
 #include <string>
 #include <vector>
 
 #include "codedrift/framer.h"
 
 #include "fuzz_check.h"
+#include "fuzz_chunks.h"
 
 namespace codedrift::fuzz {
 namespace {
@@ -31,18 +31,14 @@ Outcome Frame(LengthPrefixFramer& framer, std::string_view data, const std::vect
   Outcome out;
   const FramerCounters before = framer.counters();
   auto sink = [&out](std::string_view record) { out.records.emplace_back(record); };
-  size_t pos = 0;
   bool feeding = true;
-  for (size_t i = 0; pos < data.size(); ++i) {
-    const size_t want = sizes.empty() ? 0 : sizes[i % sizes.size()];
-    const size_t take = want == 0 ? data.size() - pos : std::min(want, data.size() - pos);
-    const bool ok = framer.Feed(data.substr(pos, take), sink);
+  ForEachChunk(data, sizes, [&](std::string_view chunk) {
+    const bool ok = framer.Feed(chunk, sink);
     FUZZ_CHECK(ok == !framer.failed());
     // Once lost, the framing stays lost: Feed keeps returning false.
     FUZZ_CHECK(feeding || !ok);
     feeding = ok;
-    pos += take;
-  }
+  });
   out.failed = framer.failed();
   framer.Finish();
   const FramerCounters& after = framer.counters();
@@ -91,9 +87,7 @@ extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
   const bool wide = (shape & 1) != 0;
   // Up to 8 KiB: lengths in the input hit both sides of the limit often.
   const uint32_t max_record_bytes = 1 + ((shape >> 1) % 64) * 128 + reader.Byte() % 128;
-  std::vector<size_t> sizes;
-  const uint8_t chunk_count = reader.Byte() % 8;
-  for (uint8_t i = 0; i < chunk_count; ++i) sizes.push_back(reader.Byte() % 80);
+  const std::vector<size_t> sizes = TakeChunkSizes(reader);
   const std::string_view stream = reader.Rest();
 
   const Outcome expected = Reference(stream, wide ? 4 : 2, max_record_bytes);

@@ -4,13 +4,13 @@
 // a plain reference that splits the whole input at '\n' and applies the overlong policy to each
 // line; no record is longer than max_record_bytes, and a framer reused after Finish behaves
 // like a new one.
-#include <algorithm>
 #include <string>
 #include <vector>
 
 #include "codedrift/framer.h"
 
 #include "fuzz_check.h"
+#include "fuzz_chunks.h"
 
 namespace codedrift::fuzz {
 namespace {
@@ -31,13 +31,7 @@ Outcome Frame(LineFramer& framer, std::string_view data, const std::vector<size_
   Outcome out;
   const FramerCounters before = framer.counters();
   auto sink = [&out](std::string_view record) { out.records.emplace_back(record); };
-  size_t pos = 0;
-  for (size_t i = 0; pos < data.size(); ++i) {
-    const size_t want = sizes.empty() ? 0 : sizes[i % sizes.size()];
-    const size_t take = want == 0 ? data.size() - pos : std::min(want, data.size() - pos);
-    framer.Feed(data.substr(pos, take), sink);
-    pos += take;
-  }
+  ForEachChunk(data, sizes, [&](std::string_view chunk) { framer.Feed(chunk, sink); });
   framer.Finish(sink);
   const FramerCounters& after = framer.counters();
   out.counters.records = after.records - before.records;
@@ -84,9 +78,7 @@ extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
   const uint32_t max_record_bytes = 1 + (shape & 0x3f);
   const OverlongPolicy policy =
       (shape & 0x40) != 0 ? OverlongPolicy::kDrop : OverlongPolicy::kTruncate;
-  std::vector<size_t> sizes;
-  const uint8_t chunk_count = reader.Byte() % 8;
-  for (uint8_t i = 0; i < chunk_count; ++i) sizes.push_back(reader.Byte() % 80);
+  const std::vector<size_t> sizes = TakeChunkSizes(reader);
   const std::string_view stream = reader.Rest();
 
   const Outcome expected = Reference(stream, max_record_bytes, policy);
