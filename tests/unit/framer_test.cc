@@ -5,6 +5,7 @@
 
 #include <random>
 #include <string>
+#include <type_traits>
 #include <vector>
 
 #include <gtest/gtest.h>
@@ -25,10 +26,10 @@ struct Collected {
   }
 };
 
-// Feeds `stream` cut at the given offsets (ascending, inside the stream), then finishes.
-Collected FeedLines(std::string_view stream, const std::vector<size_t>& cuts, uint32_t max,
-                    OverlongPolicy policy) {
-  LineFramer framer(max, policy);
+// Feeds `stream` to a new framer cut at the given offsets (ascending, inside the stream), then
+// finishes it (a LineFramer hands its unterminated last line to the sink there).
+template <typename Framer>
+Collected FeedCut(Framer framer, std::string_view stream, const std::vector<size_t>& cuts) {
   Collected out;
   auto sink = [&](std::string_view record) { out.records.emplace_back(record); };
   size_t start = 0;
@@ -37,25 +38,23 @@ Collected FeedLines(std::string_view stream, const std::vector<size_t>& cuts, ui
     start = cut;
   }
   framer.Feed(stream.substr(start), sink);
-  framer.Finish(sink);
+  if constexpr (std::is_same_v<Framer, LineFramer>) {
+    framer.Finish(sink);
+  } else {
+    framer.Finish();
+  }
   out.counters = framer.counters();
   return out;
 }
 
+Collected FeedLines(std::string_view stream, const std::vector<size_t>& cuts, uint32_t max,
+                    OverlongPolicy policy) {
+  return FeedCut(LineFramer(max, policy), stream, cuts);
+}
+
 Collected FeedFrames(std::string_view stream, const std::vector<size_t>& cuts, LengthPrefix prefix,
                      uint32_t max) {
-  LengthPrefixFramer framer(prefix, max);
-  Collected out;
-  auto sink = [&](std::string_view record) { out.records.emplace_back(record); };
-  size_t start = 0;
-  for (size_t cut : cuts) {
-    framer.Feed(stream.substr(start, cut - start), sink);
-    start = cut;
-  }
-  framer.Feed(stream.substr(start), sink);
-  framer.Finish();
-  out.counters = framer.counters();
-  return out;
+  return FeedCut(LengthPrefixFramer(prefix, max), stream, cuts);
 }
 
 // The line rules applied to the whole stream at once.
