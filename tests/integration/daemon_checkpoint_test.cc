@@ -7,7 +7,6 @@
 #include <filesystem>
 #include <fstream>
 #include <map>
-#include <random>
 #include <sstream>
 #include <thread>
 
@@ -22,18 +21,6 @@ namespace codedrift::testing {
 namespace {
 
 namespace fs = std::filesystem;
-
-// Invented telemetry lines (our orchard soil-probe scenario), seeded.
-std::string ProbeLines(uint64_t seed, int count) {
-  std::mt19937_64 rng(seed);
-  std::string out;
-  for (int i = 0; i < count; ++i) {
-    out += "probe=" + std::to_string(rng() % 40) + " moisture=" + std::to_string(rng() % 100) +
-           "." + std::to_string(rng() % 10) + " temp=" + std::to_string(5 + rng() % 25) +
-           (rng() % 7 == 0 ? " batt=low" : " ok") + "\n";
-  }
-  return out;
-}
 
 constexpr uint64_t kWindow = 5000;
 

@@ -14,6 +14,7 @@
 #include <cstring>
 #include <filesystem>
 #include <fstream>
+#include <random>
 #include <sstream>
 #include <stdexcept>
 #include <thread>
@@ -165,6 +166,17 @@ bool WaitFor(const std::function<bool()>& condition, std::chrono::milliseconds t
 
 std::string DaemonPath() { return std::string(CODEDRIFT_BIN_DIR) + "/codedriftd"; }
 std::string CliPath() { return std::string(CODEDRIFT_BIN_DIR) + "/codedrift"; }
+
+std::string ProbeLines(uint64_t seed, int count) {
+  std::mt19937_64 rng(seed);
+  std::string out;
+  for (int i = 0; i < count; ++i) {
+    out += "probe=" + std::to_string(rng() % 40) + " moisture=" + std::to_string(rng() % 100) +
+           "." + std::to_string(rng() % 10) + " temp=" + std::to_string(5 + rng() % 25) +
+           (rng() % 7 == 0 ? " batt=low" : " ok") + "\n";
+  }
+  return out;
+}
 
 DaemonProcess::DaemonProcess(const TempDir& dir, const std::string& config_yaml,
                              const std::vector<std::string>& extra_args)

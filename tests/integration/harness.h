@@ -5,6 +5,7 @@
 #include <sys/types.h>
 
 #include <chrono>
+#include <cstdint>
 #include <functional>
 #include <optional>
 #include <string>
@@ -56,6 +57,10 @@ bool WaitFor(const std::function<bool()>& condition,
 
 std::string DaemonPath();
 std::string CliPath();
+
+// `count` invented telemetry lines (an orchard soil-probe scenario), each ending in '\n', the
+// same for the same seed: "probe=12 moisture=40.3 temp=17 ok".
+std::string ProbeLines(uint64_t seed, int count);
 
 // A codedriftd process. Starts with `config_yaml` written to dir/codedrift.yaml.
 class DaemonProcess {
