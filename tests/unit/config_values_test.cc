@@ -7,7 +7,7 @@
 
 #include <gtest/gtest.h>
 
-#include <arpa/inet.h>
+#include "ip_bytes.h"
 
 namespace codedrift {
 namespace {
@@ -16,17 +16,6 @@ using std::chrono::hours;
 using std::chrono::milliseconds;
 using std::chrono::minutes;
 using std::chrono::seconds;
-
-// Address bytes as the kernel hands them over (inet_pton is glibc's parser, not ours).
-std::vector<uint8_t> Ip(const char* text) {
-  std::vector<uint8_t> bytes(16);
-  if (inet_pton(AF_INET, text, bytes.data()) == 1) {
-    bytes.resize(4);
-  } else {
-    EXPECT_EQ(inet_pton(AF_INET6, text, bytes.data()), 1) << text;
-  }
-  return bytes;
-}
 
 bool Contains(const char* cidr, const char* address) {
   Result<Cidr> rule = Cidr::Parse(cidr);

@@ -9,7 +9,7 @@
 #include <gtest/gtest.h>
 
 #include "daemon_config_fixtures.h"
-#include <arpa/inet.h>
+#include "ip_bytes.h"
 
 namespace codedrift {
 namespace {
@@ -240,17 +240,6 @@ TEST(DaemonConfig, EmbeddedDefaultParses) {
   for (const StreamConfig& stream : config.streams) {
     for (const ModelConfig& model : stream.models) EXPECT_EQ(model.table, "") << model.name;
   }
-}
-
-// Address bytes as the kernel hands them over (inet_pton is glibc's parser, not ours).
-std::vector<uint8_t> Ip(const char* text) {
-  std::vector<uint8_t> bytes(16);
-  if (inet_pton(AF_INET, text, bytes.data()) == 1) {
-    bytes.resize(4);
-  } else {
-    EXPECT_EQ(inet_pton(AF_INET6, text, bytes.data()), 1) << text;
-  }
-  return bytes;
 }
 
 TEST(DaemonConfig, DefaultAllowListIsLoopbackOnly) {
