@@ -27,6 +27,12 @@ std::string TableFor(const std::string& bytes_with_length_3) {
   return text;
 }
 
+// The files Config() names: the admin token and a table that covers abcd.
+void WriteTokenAndTable(const TempDir& dir) {
+  dir.Write("token", kToken);
+  dir.Write("current.table", TableFor("abcd"));
+}
+
 std::string Config(const std::string& extra_model_keys = "") {
   return "http: {listen: 127.0.0.1:0, admin_token_file: token}\n"
          "state_dir: state\n"
@@ -44,8 +50,7 @@ std::string Config(const std::string& extra_model_keys = "") {
 
 TEST(DaemonControl, ConfigErrorsExitTwoWithPosition) {
   TempDir dir;
-  dir.Write("token", kToken);
-  dir.Write("current.table", TableFor("abcd"));
+  WriteTokenAndTable(dir);
   {
     DaemonProcess daemon(dir, Config("        windw: {symbols: 5}\n"));
     EXPECT_FALSE(daemon.WaitReady());
@@ -85,8 +90,7 @@ TEST(DaemonControl, ConfigErrorsExitTwoWithPosition) {
 
 TEST(DaemonControl, ReloadSwapsTablesKeepsCountsAndRejectsBadTables) {
   TempDir dir;
-  dir.Write("token", kToken);
-  dir.Write("current.table", TableFor("abcd"));
+  WriteTokenAndTable(dir);
   DaemonProcess daemon(dir, Config());
   ASSERT_TRUE(daemon.WaitReady()) << daemon.Log();
   SendTcp(daemon.stream_port("uplink"), std::string(600, 'a') + std::string(400, 'e'));
@@ -146,8 +150,7 @@ uint16_t FreePort() {
 
 TEST(DaemonControl, ReloadWithNewStreamSettingsOnTheSameAddressKeepsCounting) {
   TempDir dir;
-  dir.Write("token", kToken);
-  dir.Write("current.table", TableFor("abcd"));
+  WriteTokenAndTable(dir);
   std::string config = Config();
   const std::string address = "tcp://127.0.0.1:" + std::to_string(FreePort());
   config.replace(config.find("tcp://127.0.0.1:0"), 17, address);
@@ -176,8 +179,7 @@ TEST(DaemonControl, ReloadWithNewStreamSettingsOnTheSameAddressKeepsCounting) {
 
 TEST(DaemonControl, HttpErrorsAreSpecific) {
   TempDir dir;
-  dir.Write("token", kToken);
-  dir.Write("current.table", TableFor("abcd"));
+  WriteTokenAndTable(dir);
   DaemonProcess daemon(dir, Config());
   ASSERT_TRUE(daemon.WaitReady()) << daemon.Log();
   EXPECT_EQ(HttpCall(daemon.http_port(), "GET", "/healthz").status, 200);
@@ -194,8 +196,7 @@ TEST(DaemonControl, HttpErrorsAreSpecific) {
 
 TEST(DaemonControl, SigtermDrainsDataInFlight) {
   TempDir dir;
-  dir.Write("token", kToken);
-  dir.Write("current.table", TableFor("abcd"));
+  WriteTokenAndTable(dir);
   DaemonProcess daemon(dir, Config());
   ASSERT_TRUE(daemon.WaitReady()) << daemon.Log();
   // A client that sent lines and is still connected when the stop comes.
