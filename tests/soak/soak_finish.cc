@@ -113,6 +113,18 @@ void SoakRun::Finish() {
                                            .c_str());
 }
 
+std::map<std::string, SentTotals> SoakRun::SentByStream() const {
+  std::map<std::string, SentTotals> sent;
+  for (const Sender& s : senders_) {
+    SentTotals& total = sent[s.stream];
+    const SentTotals one = s.sender->totals();
+    total.bytes += one.bytes;
+    total.records += one.records;
+    total.payload += one.payload;
+  }
+  return sent;
+}
+
 // Waits until the connection-oriented streams counted what was sent and the UDP stream counted
 // what arrived (sent minus the kernel's drops), or until nothing moved for 3 s; then for two
 // more evaluations, which publish the models' symbol counts.
@@ -120,13 +132,7 @@ void SoakRun::Settle() {
   const auto scrape = [&] {
     return Scrape::Parse(testing::HttpCall(daemon_->process().http_port(), "GET", "/metrics").body);
   };
-  std::map<std::string, SentTotals> sent;
-  for (const Sender& s : senders_) {
-    SentTotals& total = sent[s.stream];
-    const SentTotals one = s.sender->totals();
-    total.bytes += one.bytes;
-    total.records += one.records;
-  }
+  const std::map<std::string, SentTotals> sent = SentByStream();
   const auto settled = [&](const Scrape& now) {
     for (const auto& [stream, total] : sent) {
       if (now.Count("codedrift_records_total", {Label("stream", stream)}) != total.records ||
@@ -161,14 +167,7 @@ void SoakRun::Settle() {
 }
 
 void SoakRun::CheckCounters(const Scrape& last) {
-  std::map<std::string, SentTotals> sent;
-  for (const Sender& s : senders_) {
-    SentTotals& total = sent[s.stream];
-    const SentTotals one = s.sender->totals();
-    total.bytes += one.bytes;
-    total.records += one.records;
-    total.payload += one.payload;
-  }
+  std::map<std::string, SentTotals> sent = SentByStream();
   for (const SoakStream& stream : streams_) {
     const std::string label = Label("stream", stream.name);
     const uint64_t records = last.Count("codedrift_records_total", {label});

@@ -5,6 +5,7 @@
 // warm-up, alerts delivered, clean exit).
 #pragma once
 
+#include <map>
 #include <memory>
 #include <optional>
 #include <string>
@@ -57,6 +58,8 @@ class SoakRun {
   bool CheckSample(const SamplePoint& sample);
   void Reload(int number, double at);
   void Finish();
+  // What the connection-oriented senders sent, summed per stream.
+  std::map<std::string, SentTotals> SentByStream() const;
   void Settle();
   void CheckCounters(const Scrape& last);
   void CheckAlerts(const Scrape& last);
