@@ -4,6 +4,8 @@
 
 #include "codedrift/byte_histogram.h"
 
+#include "token_symbolizer.h"
+
 namespace codedrift {
 
 Alphabet SymbolizerSpec::alphabet() const {
@@ -55,6 +57,21 @@ std::unique_ptr<Window> MakeWindow(const WindowSpec& spec, bool raw_bytes, const
   return raw_bytes ? MakeByteCountWindow(spec.symbols) : MakeIdCountWindow(spec.symbols);
 }
 
+// Bytes from which counting into a histogram of its own, outside the lock, and adding its 256
+// counts under it, beats counting straight into the model's histogram under the lock.
+constexpr size_t kCountOutsideLockBytes = 2048;
+
+// The records of a lines run: each line with its '\n'.
+void SplitLines(std::string_view run, std::vector<std::string_view>& lines) {
+  lines.clear();
+  while (!run.empty()) {
+    const size_t end = run.find('\n');
+    const size_t length = end == std::string_view::npos ? run.size() : end + 1;
+    lines.push_back(run.substr(0, length));
+    run.remove_prefix(length);
+  }
+}
+
 }  // namespace
 
 Model::Model(SymbolizerSpec symbolizer, WindowSpec window, const Clock& clock)
@@ -62,55 +79,94 @@ Model::Model(SymbolizerSpec symbolizer, WindowSpec window, const Clock& clock)
       window_spec_(window),
       clock_(clock),
       raw_bytes_(symbolizer_spec_.kind == AlphabetKind::kBytes && symbolizer_spec_.block == 1),
+      tokens_(symbolizer_spec_.kind == AlphabetKind::kTokens),
       symbolizer_(MakeSymbolizer(symbolizer_spec_)),
-      window_(MakeWindow(window_spec_, raw_bytes_, clock)) {
+      token_symbolizer_(tokens_ ? dynamic_cast<TokenSymbolizer*>(symbolizer_.get()) : nullptr),
+      window_(MakeWindow(window_spec_, raw_bytes_, clock)) {}
+
+SymbolId Model::SymbolizeTokens(std::span<const std::string_view> records,
+                                std::vector<SymbolId>& ids) {
+  size_t done = 0;
+  {
+    std::shared_lock lock(symbolizer_mutex_);
+    while (done < records.size() && token_symbolizer_->AppendKnown(records[done], ids)) ++done;
+    if (done == records.size()) return token_symbolizer_->IdLimit();
+  }
+  // A record with a token to store: it and the rest of the run take the exclusive lock (new
+  // tokens come in bursts, mostly while a model warms up).
+  std::unique_lock lock(symbolizer_mutex_);
+  for (; done < records.size(); ++done) token_symbolizer_->Append(records[done], ids);
+  return token_symbolizer_->IdLimit();
+}
+
+void Model::AddIds(const std::vector<SymbolId>& ids, SymbolId limit, uint64_t records) {
+  records_total_ += records;
+  if (cumulative_.size() < limit) cumulative_.resize(limit, 0);
+  for (SymbolId id : ids) ++cumulative_[id];
+  window_->PushIds(ids);
+  symbols_total_ += ids.size();
 }
 
 void Model::Ingest(std::string_view record) {
-  std::lock_guard lock(mutex_);
-  ++records_total_;
-  if (raw_bytes_) {
-    CountBytes(record, byte_counts_);
-    window_->PushBytes({reinterpret_cast<const uint8_t*>(record.data()), record.size()});
-    symbols_total_ += record.size();
+  if (tokens_) {
+    thread_local std::vector<SymbolId> ids;
+    ids.clear();
+    const SymbolId limit = SymbolizeTokens({&record, 1}, ids);
+    std::lock_guard lock(mutex_);
+    AddIds(ids, limit, 1);
     return;
   }
-  scratch_ids_.clear();
-  symbolizer_->Append(record, scratch_ids_);
-  const SymbolId limit = symbolizer_->IdLimit();
-  if (cumulative_.size() < limit) cumulative_.resize(limit, 0);
-  for (SymbolId id : scratch_ids_) ++cumulative_[id];
-  window_->PushIds(scratch_ids_);
-  symbols_total_ += scratch_ids_.size();
+  IngestRun(record, 1);
 }
 
 void Model::IngestRun(std::string_view run, uint64_t records) {
-  std::lock_guard lock(mutex_);
-  records_total_ += records;
   if (raw_bytes_) {
-    CountBytes(run, byte_counts_);
+    uint64_t counts[256] = {};
+    const bool outside = run.size() >= kCountOutsideLockBytes;
+    if (outside) CountBytes(run, counts);
+    std::lock_guard lock(mutex_);
+    records_total_ += records;
+    if (outside) {
+      for (size_t b = 0; b < 256; ++b) byte_counts_[b] += counts[b];
+    } else {
+      CountBytes(run, byte_counts_);
+    }
     window_->PushBytes({reinterpret_cast<const uint8_t*>(run.data()), run.size()});
     symbols_total_ += run.size();
     return;
   }
-  scratch_ids_.clear();
-  while (!run.empty()) {
-    const size_t end = run.find('\n');
-    const size_t length = end == std::string_view::npos ? run.size() : end + 1;
-    symbolizer_->Append(run.substr(0, length), scratch_ids_);
-    run.remove_prefix(length);
+  if (tokens_) {
+    thread_local std::vector<std::string_view> lines;
+    thread_local std::vector<SymbolId> ids;
+    SplitLines(run, lines);
+    ids.clear();
+    const SymbolId limit = SymbolizeTokens(lines, ids);
+    std::lock_guard lock(mutex_);
+    AddIds(ids, limit, records);
+    return;
   }
-  const SymbolId limit = symbolizer_->IdLimit();
-  if (cumulative_.size() < limit) cumulative_.resize(limit, 0);
-  for (SymbolId id : scratch_ids_) ++cumulative_[id];
-  window_->PushIds(scratch_ids_);
-  symbols_total_ += scratch_ids_.size();
+  // Other symbolizers carry state from record to record (blocks, field deltas): in order,
+  // under the lock.
+  std::lock_guard lock(mutex_);
+  scratch_ids_.clear();
+  if (records == 1) {
+    symbolizer_->Append(run, scratch_ids_);  // one record, whatever it holds (Ingest)
+  } else {
+    while (!run.empty()) {
+      const size_t end = run.find('\n');
+      const size_t length = end == std::string_view::npos ? run.size() : end + 1;
+      symbolizer_->Append(run.substr(0, length), scratch_ids_);
+      run.remove_prefix(length);
+    }
+  }
+  AddIds(scratch_ids_, symbolizer_->IdLimit(), records);
 }
 
 ModelSample Model::Sample() {
   ModelSample sample;
   sample.alphabet = symbolizer_spec_.alphabet();
   std::lock_guard lock(mutex_);
+  std::shared_lock symbolizer_lock(symbolizer_mutex_);
   const SymbolId limit = raw_bytes_ ? 256 : symbolizer_->IdLimit();
   // Keys are append-only, so only ids new since the last sample are looked up.
   for (SymbolId id = static_cast<SymbolId>(keys_.size()); id < limit; ++id) {
@@ -139,6 +195,7 @@ uint64_t Model::window_memory_bytes() {
 ModelState Model::ExportState() {
   ModelState state;
   std::lock_guard lock(mutex_);
+  std::shared_lock symbolizer_lock(symbolizer_mutex_);
   state.symbolizer = symbolizer_->ExportState();
   state.window = window_->ExportState();
   if (raw_bytes_) {
@@ -163,7 +220,9 @@ Status Model::ImportState(const ModelState& state) {
     return Error{"checkpoint counts more symbols than the symbolizer knows"};
   }
   std::lock_guard lock(mutex_);
+  std::unique_lock symbolizer_lock(symbolizer_mutex_);
   symbolizer_ = std::move(symbolizer);
+  token_symbolizer_ = tokens_ ? dynamic_cast<TokenSymbolizer*>(symbolizer_.get()) : nullptr;
   window_ = std::move(window);
   keys_.clear();
   if (raw_bytes_) {

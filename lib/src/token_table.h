@@ -27,41 +27,35 @@ namespace codedrift {
 class TokenTable {
  public:
   static constexpr uint32_t kNotFound = UINT32_MAX;
+  static constexpr uint32_t kMissing = UINT32_MAX - 1;  // Find: not stored yet, but storable
 
   explicit TokenTable(uint32_t first_id) : first_id_(first_id) { Rehash(kInitialCapacity); }
 
   // The id of `token` (masked first if kMaskDigits); when it is new, assigns the next id if
   // fewer than `limit` tokens are stored, and otherwise returns kNotFound without storing it.
+  // The bytes from `readable_begin` (<= token, e.g. the record's start) to the token's end
+  // may be read.
   template <bool kMaskDigits>
-  __attribute__((always_inline)) uint32_t Intern(const char* token, size_t length, uint32_t limit) {
-    // Short tokens (nearly all of them in telemetry) are read once into two words that serve
-    // both the hash and the comparison.
-    Words words{};
-    uint64_t hash;
-    if (length <= kShort) {
-      words = ReadShort<kMaskDigits>(token, length);
-      hash = MixShort(words, length);
-    } else {
-      hash = HashLong<kMaskDigits>(token, length);
-    }
-    if (filtered_size_ == size() && size() >= limit && !MayHold(hash)) return kNotFound;
-    const auto tag = static_cast<uint32_t>(hash >> 32);
-    size_t slot = hash & mask_;
-    while (true) {
-      const Slot s = slots_[slot];
-      if (s.index == kEmpty) break;
-      if (s.tag == tag) {
-        const Entry& entry = entries_[s.index];
-        if (entry.length == length &&
-            (length <= kShort
-                 ? entry.words == words
-                 : EqualLong<kMaskDigits>(arena_.data() + offsets_[s.index], token, length))) {
-          return first_id_ + s.index;
-        }
-      }
-      slot = (slot + 1) & mask_;
-    }
+  __attribute__((always_inline)) uint32_t Intern(const char* readable_begin, const char* token,
+                                                 size_t length, uint32_t limit) {
+    Words words;
+    size_t slot;
+    uint32_t tag;
+    const uint32_t id = Locate<kMaskDigits>(readable_begin, token, length, limit, words, slot, tag);
+    if (id != kMissing) return id;
     return Insert<kMaskDigits>(token, length, limit, words, slot, tag);
+  }
+
+  // What Intern would return, without storing anything: kMissing when Intern would store the
+  // token. Const, so several threads may call it at once while none calls Intern.
+  template <bool kMaskDigits>
+  __attribute__((always_inline)) uint32_t Find(const char* readable_begin, const char* token,
+                                               size_t length, uint32_t limit) const {
+    Words words;
+    size_t slot;
+    uint32_t tag;
+    const uint32_t id = Locate<kMaskDigits>(readable_begin, token, length, limit, words, slot, tag);
+    return id == kMissing && size() >= limit ? kNotFound : id;
   }
 
   // Tokens stored so far.
@@ -122,39 +116,65 @@ class TokenTable {
     std::memcpy(&v, p, 4);
     return kMaskDigits ? MaskDigits(v) : v;
   }
-  // 1..3 bytes: first, middle and last byte (together they cover every byte).
+  // Short tokens as two words: the token's bytes right-aligned in 16 bytes (byte i at position
+  // 16 - length + i, little-endian, a holding positions 0..7), zeros before them. Together
+  // with the length this is the text, so equal words mean equal tokens.
+  //
+  // Most tokens do not start a record, so the 16 bytes ending at the token's end can be read
+  // in one load and the bytes before the token cleared, with no branch on the length. The
+  // others are read with loads inside the token, shifted into place.
   template <bool kMaskDigits>
-  static uint64_t LoadShort(const char* p, size_t length) {
+  static Words ReadShort(const char* readable_begin, const char* p, size_t length) {
+#if defined(__SSE2__)
+    if (p + length - readable_begin >= 16) {
+      // 16 zero bytes, then 16 0xff: the 16 from offset `length` keep the last `length` lanes.
+      alignas(16) static constexpr unsigned char kKeep[32] = {
+          0,    0,    0,    0,    0,    0,    0,    0,    0,    0,    0,
+          0,    0,    0,    0,    0,    0xff, 0xff, 0xff, 0xff, 0xff, 0xff,
+          0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff};
+      __m128i v = _mm_loadu_si128(reinterpret_cast<const __m128i*>(p + length - 16));
+      v = _mm_and_si128(v, _mm_loadu_si128(reinterpret_cast<const __m128i*>(kKeep + length)));
+      if (kMaskDigits) v = MaskDigits(v);
+      return {static_cast<uint64_t>(_mm_cvtsi128_si64(v)),
+              static_cast<uint64_t>(_mm_cvtsi128_si64(_mm_unpackhi_epi64(v, v)))};
+    }
+#else
+    (void)readable_begin;
+#endif
+    Words w;
     const auto* u = reinterpret_cast<const unsigned char*>(p);
-    const uint64_t v = uint64_t{u[0]} << 16 | uint64_t{u[length / 2]} << 8 | u[length - 1];
-    return kMaskDigits ? MaskDigits(v) : v;
+    if (length >= 8) {
+      w.b = Load64<false>(p + length - 8);
+      w.a = length > 8 ? Load64<false>(p) << (8 * (16 - length)) : 0;
+    } else if (length >= 4) {
+      // Overlapping bytes hold the same value in both loads, so or-ing them is exact.
+      w.b = Load32<false>(p + length - 4) << 32 | Load32<false>(p) << (8 * (8 - length));
+    } else if (length > 0) {
+      w.b = uint64_t{u[0]} << (8 * (8 - length)) |
+            uint64_t{u[length / 2]} << (8 * (8 - length + length / 2)) |
+            uint64_t{u[length - 1]} << 56;
+    }
+    return kMaskDigits ? MaskDigits(w) : w;
   }
 
-  // Both words at once (zero bytes are no digits, so padding stays zero).
+#if defined(__SSE2__)
+  // x + 0x50 maps '0'..'9' (and only them) onto -128..-119 as signed bytes; their low nibble
+  // is cleared. Zero bytes are no digits, so padding stays zero.
+  static __m128i MaskDigits(__m128i v) {
+    const __m128i digit = _mm_cmplt_epi8(_mm_add_epi8(v, _mm_set1_epi8(0x50)), _mm_set1_epi8(-118));
+    return _mm_andnot_si128(_mm_and_si128(digit, _mm_set1_epi8(0x0F)), v);
+  }
+#endif
+
   static Words MaskDigits(Words w) {
 #if defined(__SSE2__)
-    // x + 0x50 maps '0'..'9' (and only them) onto -128..-119 as signed bytes.
-    const __m128i v = _mm_set_epi64x(static_cast<long long>(w.b), static_cast<long long>(w.a));
-    const __m128i digit = _mm_cmplt_epi8(_mm_add_epi8(v, _mm_set1_epi8(0x50)), _mm_set1_epi8(-118));
-    const __m128i masked = _mm_andnot_si128(_mm_and_si128(digit, _mm_set1_epi8(0x0F)), v);
-    return {static_cast<uint64_t>(_mm_cvtsi128_si64(masked)),
-            static_cast<uint64_t>(_mm_cvtsi128_si64(_mm_unpackhi_epi64(masked, masked)))};
+    const __m128i v =
+        MaskDigits(_mm_set_epi64x(static_cast<long long>(w.b), static_cast<long long>(w.a)));
+    return {static_cast<uint64_t>(_mm_cvtsi128_si64(v)),
+            static_cast<uint64_t>(_mm_cvtsi128_si64(_mm_unpackhi_epi64(v, v)))};
 #else
     return {MaskDigits(w.a), MaskDigits(w.b)};
 #endif
-  }
-
-  template <bool kMaskDigits>
-  static Words ReadShort(const char* p, size_t length) {
-    Words w;
-    if (length >= 8) {
-      w = {Load64<false>(p), Load64<false>(p + length - 8)};
-    } else if (length >= 4) {
-      w = {Load32<false>(p), Load32<false>(p + length - 4)};
-    } else if (length > 0) {
-      w = {LoadShort<false>(p, length), 0};
-    }
-    return kMaskDigits ? MaskDigits(w) : w;
   }
 
   // One 64x64->128 multiply folds both words (the wyhash-style "mum"), then a multiply and
@@ -223,15 +243,48 @@ class TokenTable {
     filtered_size_ = size();
   }
 
+  // The lookup: the token's id; kNotFound when the filter turns it away (the table is full);
+  // otherwise kMissing, with `slot` the empty slot where its probe ended and `words` and `tag`
+  // ready for Insert. Short tokens (nearly all of them in telemetry) are read once into two
+  // words that serve both the hash and the comparison.
+  template <bool kMaskDigits>
+  __attribute__((always_inline)) uint32_t Locate(const char* readable_begin, const char* token,
+                                                 size_t length, uint32_t limit, Words& words,
+                                                 size_t& slot, uint32_t& tag) const {
+    words = {};
+    uint64_t hash;
+    if (length <= kShort) {
+      words = ReadShort<kMaskDigits>(readable_begin, token, length);
+      hash = MixShort(words, length);
+    } else {
+      hash = HashLong<kMaskDigits>(token, length);
+    }
+    if (filtered_size_ == size() && size() >= limit && !MayHold(hash)) return kNotFound;
+    tag = static_cast<uint32_t>(hash >> 32);
+    slot = hash & mask_;
+    while (true) {
+      const Slot s = slots_[slot];
+      if (s.index == kEmpty) return kMissing;
+      if (s.tag == tag) {
+        const Entry& entry = entries_[s.index];
+        if (entry.length == length &&
+            (length <= kShort
+                 ? entry.words == words
+                 : EqualLong<kMaskDigits>(arena_.data() + offsets_[s.index], token, length))) {
+          return first_id_ + s.index;
+        }
+      }
+      slot = (slot + 1) & mask_;
+    }
+  }
+
   // A token not in the table, whose probe ended at the empty `slot`: stored when there is room
-  // (the rare path, kept out of line so the lookup above inlines into the scan).
+  // (the rare path, kept out of line so the lookup above inlines into the scan). The filter is
+  // built as the table fills, so that Find, which cannot build it, has it too.
   template <bool kMaskDigits>
   __attribute__((noinline)) uint32_t Insert(const char* token, size_t length, uint32_t limit,
                                             const Words& words, size_t slot, uint32_t tag) {
-    if (size() >= limit) {
-      if (filtered_size_ != size()) BuildFilter();
-      return kNotFound;
-    }
+    if (size() >= limit) return kNotFound;
     const auto index = static_cast<uint32_t>(entries_.size());
     slots_[slot] = Slot{tag, index};
     entries_.push_back(Entry{words, length});
@@ -241,6 +294,7 @@ class TokenTable {
       arena_ += kMaskDigits && c >= '0' && c <= '9' ? '0' : c;
     }
     if (2 * entries_.size() > slots_.size()) Rehash(2 * slots_.size());
+    if (size() >= limit) BuildFilter();
     return first_id_ + index;
   }
 
@@ -261,8 +315,8 @@ class TokenTable {
   std::vector<Entry> entries_;   // index -> length and, for short keys, text
   std::vector<size_t> offsets_;  // index -> where its text starts in arena_
   std::string arena_;            // every stored token, back to back
-  // Built when a new token first finds the table full; valid while size() == filtered_size_
-  // (no token is stored after it, so a token it turns away is neither stored nor storable).
+  // Built when the table fills; valid while size() == filtered_size_ (no token is stored after
+  // it, so a token it turns away is neither stored nor storable).
   std::vector<uint64_t> filter_;
   size_t filter_mask_ = 0;
   uint32_t filtered_size_ = kEmpty;

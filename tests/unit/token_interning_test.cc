@@ -100,6 +100,41 @@ TEST(TokenInterningProperty, IdsEqualAReferenceInternerBeforeAndAfterTheTableFil
   }
 }
 
+TEST(TokenInterningProperty, ATokenGetsOneIdWhereverItStandsInItsRecord) {
+  // Property (invented seeded data): short tokens are read one way at the start of a record
+  // and another way further in (one load ending at the token's end); for tokens of every
+  // length 1..40 over all byte values but the delimiters, masked or not, both readings must
+  // find the same id, and the key must be the token's (masked) text.
+  for (const bool mask_digits : {false, true}) {
+    TokenOptions options;
+    options.delimiters = " ";
+    options.mask_digits = mask_digits;
+    auto symbolizer = MakeTokenSymbolizer(options);
+    std::mt19937_64 rng(mask_digits ? 99 : 98);
+    for (int round = 0; round < 4000; ++round) {
+      const size_t length = 1 + static_cast<size_t>(round % 40);
+      std::string token;
+      while (token.size() < length) {
+        const auto c = static_cast<char>(rng() % 256);
+        if (c != ' ' && c != '\n') token += c;
+      }
+      std::string expected = token;
+      for (char& c : expected) {
+        if (mask_digits && c >= '0' && c <= '9') c = '0';
+      }
+      const std::string prefix(1 + rng() % 24, 'q');
+      std::vector<SymbolId> at_start;
+      std::vector<SymbolId> further_in;
+      symbolizer->Append(token + " " + prefix, at_start);
+      symbolizer->Append(prefix + " " + token, further_in);
+      ASSERT_EQ(at_start.size(), 3u);
+      ASSERT_EQ(further_in.size(), 3u);
+      ASSERT_EQ(at_start[0], further_in[1]) << "round " << round << " length " << length;
+      ASSERT_EQ(symbolizer->KeyOf(at_start[0]), expected) << "round " << round;
+    }
+  }
+}
+
 TEST(TokenInterning, AFullTableStillFindsEveryTokenItHolds) {
   // Fill the table to its cap, then look every stored token up again among many unknown
   // ones: the stored ones keep their ids, the unknown ones are the overflow symbol.

@@ -139,7 +139,8 @@ class DelimiterSet {
   }
 
   template <size_t kCompares>
-  uint64_t VectorMask(const char* record_begin, const char* p, size_t n) const {
+  __attribute__((always_inline)) uint64_t VectorMask(const char* record_begin, const char* p,
+                                                     size_t n) const {
     uint64_t mask = 0;
     size_t i = 0;
     for (; i + 16 <= n; i += 16) {

@@ -5,6 +5,8 @@
 #include <cstdint>
 #include <memory>
 #include <mutex>
+#include <shared_mutex>
+#include <span>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -51,12 +53,16 @@ struct ModelState {
   uint64_t records_total = 0;
 };
 
+class TokenSymbolizer;
+
 // Thread-safe: Ingest may be called from any thread; Sample from another.
 class Model {
  public:
   Model(SymbolizerSpec symbolizer, WindowSpec window, const Clock& clock);
 
-  // Hot path: symbolize, count, push into the window. One lock per record.
+  // Hot path: symbolize, count, push into the window. One lock per record. Single bytes
+  // (long records) and tokens are counted or symbolized before the lock is taken, so several
+  // threads ingesting into one model overlap in that work.
   void Ingest(std::string_view record);
   // Hot path for `lines` framing: `records` whole records lying back to back in `run`, each
   // ending in '\n' (one received buffer's worth). Same effect as Ingest on each in turn, with
@@ -80,14 +86,26 @@ class Model {
   const WindowSpec window_spec_;
   const Clock& clock_;
   const bool raw_bytes_;  // bytes with block 1: ids are the bytes themselves
+  const bool tokens_;     // tokens: symbolized outside mutex_ (SymbolizeTokens)
 
-  std::mutex mutex_;  // guards everything below
+  // Tokens outside mutex_: known tokens are looked up under a shared lock of
+  // symbolizer_mutex_, new ones stored under its exclusive lock; ids then go to the window
+  // under mutex_ (any order of two concurrent runs is a valid order of arrival).
+  SymbolId SymbolizeTokens(std::span<const std::string_view> records, std::vector<SymbolId>& ids);
+  // Under mutex_: counts and pushes ids (all below `limit`) of `records` records.
+  void AddIds(const std::vector<SymbolId>& ids, SymbolId limit, uint64_t records);
+
+  std::mutex mutex_;  // guards everything below; taken before symbolizer_mutex_ when both are
+  // Guards the symbolizer's state for tokens models (shared: reads, exclusive: new tokens),
+  // and the symbolizer_ pointer together with mutex_.
+  std::shared_mutex symbolizer_mutex_;
   std::unique_ptr<Symbolizer> symbolizer_;
+  TokenSymbolizer* token_symbolizer_ = nullptr;  // symbolizer_, for tokens models
   std::unique_ptr<Window> window_;
   std::vector<SymbolId> scratch_ids_;
   std::vector<SymbolKey> keys_;
   std::vector<uint64_t> cumulative_;  // by id (not raw bytes)
-  uint64_t byte_counts_[256] = {};     // raw bytes
+  uint64_t byte_counts_[256] = {};    // raw bytes
   uint64_t symbols_total_ = 0;
   uint64_t records_total_ = 0;
 };

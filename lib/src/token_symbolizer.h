@@ -1,0 +1,45 @@
+// The `tokens` symbolizer (MakeTokenSymbolizer in symbolizer.h), declared for the library's own
+// use: Model symbolizes known tokens on several threads at once through AppendKnown.
+#pragma once
+
+#include <string_view>
+#include <vector>
+
+#include "codedrift/delimiter_set.h"
+#include "codedrift/symbolizer.h"
+
+#include "token_table.h"
+
+namespace codedrift {
+
+// Splits each record on a delimiter set, interns the tokens and ends every record with the
+// end-of-record symbol. Not thread-safe, except that AppendKnown (const) may run on several
+// threads at once while nothing calls a non-const method.
+class TokenSymbolizer final : public Symbolizer {
+ public:
+  explicit TokenSymbolizer(const TokenOptions& options);
+
+  const Alphabet& alphabet() const override { return alphabet_; }
+  size_t Append(std::string_view record, std::vector<SymbolId>& out) override;
+  // Append without storing: when every token of the record is known (or the table is full,
+  // so that unknown ones are the overflow symbol), appends exactly what Append would and
+  // returns true; otherwise returns false and leaves `out` as it was.
+  bool AppendKnown(std::string_view record, std::vector<SymbolId>& out) const;
+
+  SymbolId IdLimit() const override;
+  SymbolKey KeyOf(SymbolId id) const override;
+  SymbolizerState ExportState() const override;
+  Status ImportState(const SymbolizerState& state) override;
+
+ private:
+  template <bool kMaskDigits>
+  bool AppendKnownAs(std::string_view record, std::vector<SymbolId>& out) const;
+
+  Alphabet alphabet_ = Alphabet::Tokens();
+  bool mask_digits_;
+  uint32_t max_distinct_;
+  DelimiterSet delimiters_;
+  TokenTable table_;
+};
+
+}  // namespace codedrift
