@@ -176,6 +176,46 @@ void BM_Model_IngestRun(benchmark::State& state) {
 }
 BENCHMARK(BM_Model_IngestRun)->Arg(0)->Arg(1)->Unit(benchmark::kMillisecond);
 
+// One model fed by 1 or 2 threads at once (the daemon's io threads on one stream), in wall
+// time: bytes are counted and tokens symbolized outside the model's lock, so two threads
+// should come close to twice one thread's rate; what stays under the lock (the window push,
+// adding 256 counts or the ids) bounds it.
+void BM_Model_IngestRunShared(benchmark::State& state) {
+  static const std::vector<std::string> lines = GaugeLines(8 << 20);
+  static const auto runs = [] {
+    std::vector<std::pair<std::string, uint64_t>> out(1);
+    for (const auto& line : lines) {
+      if (out.back().first.size() + line.size() > 65536) out.emplace_back();
+      out.back().first += line;
+      ++out.back().second;
+    }
+    return out;
+  }();
+  static SteadyClock clock;
+  static Model bytes_model(BytesSpec(), WindowSpec{.symbols = kWindow}, clock);
+  static Model tokens_model(TokensSpec(true), WindowSpec{.symbols = kWindow}, clock);
+  Model& model = state.range(0) == 0 ? bytes_model : tokens_model;
+  size_t bytes = 0;
+  for (const auto& line : lines) bytes += line.size();
+  for (auto _ : state) {
+    // Each thread starts at a different run, as different connections would.
+    const size_t offset = static_cast<size_t>(state.thread_index()) * runs.size() / 2;
+    for (size_t i = 0; i < runs.size(); ++i) {
+      const auto& [run, records] = runs[(i + offset) % runs.size()];
+      model.IngestRun(run, records);
+    }
+  }
+  state.SetBytesProcessed(static_cast<int64_t>(state.iterations() * bytes));
+  state.SetLabel(state.range(0) == 0 ? "bytes" : "tokens");
+}
+BENCHMARK(BM_Model_IngestRunShared)
+    ->Arg(0)
+    ->Arg(1)
+    ->Threads(1)
+    ->Threads(2)
+    ->UseRealTime()
+    ->Unit(benchmark::kMillisecond);
+
 // The least a window can do with a record: copy it into a 1 MiB ring.
 void BM_Memcpy_Baseline(benchmark::State& state) {
   static const std::vector<std::string> lines = GaugeLines(8 << 20);
