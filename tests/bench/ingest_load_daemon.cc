@@ -9,14 +9,25 @@
 
 namespace codedrift::bench {
 
-const char* ModelKindName(ModelKind kind) { return kind == ModelKind::kBytes ? "bytes" : "tokens"; }
+const char* ModelKindName(ModelKind kind) {
+  switch (kind) {
+    case ModelKind::kBytes:
+      return "bytes";
+    case ModelKind::kTokens:
+      return "tokens";
+    case ModelKind::kTokensUnmasked:
+      return "tokens-unmasked";
+  }
+  return "bytes";
+}
 
-TokenOptions BenchTokenOptions() {
+TokenOptions BenchTokenOptions(ModelKind kind) {
   // As the embedded default config spells its tokens model (digits masked, so values and
-  // sequence numbers do not flood the table).
+  // sequence numbers do not flood the table); unmasked, the capture's timestamps and sequence
+  // numbers fill the table and then take the overflow symbol.
   TokenOptions options;
   options.delimiters = " =,";
-  options.mask_digits = true;
+  options.mask_digits = kind != ModelKind::kTokensUnmasked;
   options.max_distinct = 65536;
   return options;
 }
@@ -44,7 +55,7 @@ std::string DaemonConfigText(const std::vector<BenchStream>& streams,
       if (model.kind == ModelKind::kBytes) {
         out << "        symbols: {kind: bytes}\n";
       } else {
-        const TokenOptions tokens = BenchTokenOptions();
+        const TokenOptions tokens = BenchTokenOptions(model.kind);
         out << "        symbols: {kind: tokens, delimiters: \"" << tokens.delimiters
             << "\", mask_digits: " << (tokens.mask_digits ? "true" : "false")
             << ", max_distinct: " << tokens.max_distinct << "}\n";

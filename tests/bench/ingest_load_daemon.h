@@ -18,10 +18,11 @@
 
 namespace codedrift::bench {
 
-// The models compared: single bytes, and tokens as the default config spells them.
-enum class ModelKind { kBytes, kTokens };
+// The models compared: single bytes, tokens as the default config spells them (DESIGN.md's
+// example: digits masked, max_distinct 65536), and the same tokens unmasked for comparison.
+enum class ModelKind { kBytes, kTokens, kTokensUnmasked };
 const char* ModelKindName(ModelKind kind);
-TokenOptions BenchTokenOptions();
+TokenOptions BenchTokenOptions(ModelKind kind = ModelKind::kTokens);
 
 struct BenchModel {
   std::string name;

@@ -65,17 +65,39 @@ report "wc -l (baseline)" "$baseline_s" "$baseline_cpu"
 report "cat > /dev/null" $(measure cat "$capture")
 report "inspect --symbols bytes --deflate-budget 0" \
   $(measure "$codedrift" inspect --symbols bytes --deflate-budget 0 "$capture")
-report "inspect --symbols bytes (32 MiB deflate sample)" \
-  $(measure "$codedrift" inspect --symbols bytes "$capture")
-report "inspect --symbols tokens" $(measure "$codedrift" inspect --symbols tokens "$capture")
-report "inspect --symbols tokens --threads 1" \
-  $(measure "$codedrift" inspect --symbols tokens --threads 1 "$capture")
-report "inspect --symbols tokens --mask-digits" \
-  $(measure "$codedrift" inspect --symbols tokens --mask-digits "$capture")
-report "inspect --symbols tokens --mask-digits --threads 1" \
-  $(measure "$codedrift" inspect --symbols tokens --mask-digits --threads 1 "$capture")
-echo "  goals (DESIGN.md section 7): inspect bytes >= 0.5x wc -l; tokens >= 150 MB/s offline"
-
+read -r deflate_s deflate_cpu <<<"$(measure "$codedrift" inspect --symbols bytes "$capture")"
+report "inspect --symbols bytes (32 MiB deflate sample)" "$deflate_s" "$deflate_cpu"
+# When the default run misses the bytes goal, one line says why: zlib alone (level 6 raw deflate
+# of the same 32 evenly spaced 1 MiB samples, timed here; Python's zlib is the same library)
+# needs longer than the goal allows.
+zlib_s=$(python3 - "$capture" <<'PY'
+import os, sys, time, zlib
+path, block, budget = sys.argv[1], 1 << 20, 32 << 20
+size = os.path.getsize(path)
+with open(path, "rb") as f:
+    if size <= budget:  # compressed whole, as one stream
+        blocks = [f.read()]
+    else:
+        count = budget // block
+        blocks = []
+        for i in range(count):
+            f.seek((size - block) * i // (count - 1))
+            blocks.append(f.read(block))
+t = time.perf_counter()
+for b in blocks:
+    c = zlib.compressobj(6, zlib.DEFLATED, -15, 8)
+    c.compress(b)
+    c.flush()
+print("%.3f %d" % (time.perf_counter() - t, sum(len(b) for b in blocks)))
+PY
+)
+read -r zlib_s zlib_bytes <<<"$zlib_s"
+awk -v z="$zlib_s" -v zb="$zlib_bytes" -v base="$baseline_s" -v n="$(nproc)" -v d="$deflate_s" 'BEGIN {
+  if (d > 0 && base / d >= 0.5) exit
+  printf "  why the deflate line misses 0.5x: zlib alone takes %.3f s for its %.0f MiB (%.0f MB/s, one" \
+         " core; >= %.3f s on %d cores), 0.5x wc -l allows %.3f s: the goal is for --deflate-budget 0\n",
+         z, zb / 1048576, zb / z / 1e6, z / n, n, 2 * base
+}'
 # ---------------------------------------------------------------------------------------------
 # HOOKS: daemon ingest benchmarks go here (owned by the daemon engineer).
 # Available: $build, $codedrift, $capture (page-cached), $bytes, $runs, `measure CMD...` (median
