@@ -2,18 +2,16 @@
 
 #include <atomic>
 #include <chrono>
+#include <cmath>
 #include <filesystem>
 #include <fstream>
 #include <future>
-#include <cmath>
 #include <map>
 #include <set>
-#include <unistd.h>
 
 #include <boost/asio/io_context.hpp>
 #include <boost/asio/signal_set.hpp>
 #include <nlohmann/json.hpp>
-#include <spdlog/spdlog.h>
 
 #include "api_json.h"
 #include "checkpointer.h"
@@ -25,6 +23,8 @@
 #include "stream_listener.h"
 #include "stream_runtime.h"
 #include "webhook_sink.h"
+#include <spdlog/spdlog.h>
+#include <unistd.h>
 
 namespace codedrift {
 namespace asio = boost::asio;
@@ -84,6 +84,10 @@ struct Daemon::Impl {
   asio::io_context io;
   DaemonMetrics metrics;
 
+  // Held for a whole evaluation pass and by Apply while it swaps listeners and models, so a reload
+  // never copies a model's evaluator or state machine while the evaluation thread updates them.
+  // Taken before `mutex`, never after it.
+  std::mutex evaluation_mutex;
   mutable std::mutex mutex;  // guards the members below (control plane only, never ingest)
   DaemonConfig config;
   std::string admin_token;
@@ -91,8 +95,8 @@ struct Daemon::Impl {
   std::map<std::string, std::unique_ptr<StreamListener>> listeners;  // by stream name
   ProposalWriter proposals;
 
-  std::unique_ptr<WebhookSink> webhook;          // null when alerts.webhook is not set
-  std::optional<WebhookConfig> webhook_config;   // what `webhook` was built from
+  std::unique_ptr<WebhookSink> webhook;         // null when alerts.webhook is not set
+  std::optional<WebhookConfig> webhook_config;  // what `webhook` was built from
   std::atomic<uint64_t> proposal_failures{0};
   // Models whose alert proposal could not be written (full disk, ...): retried at every
   // evaluation while they stay stale. Evaluation thread only.
@@ -128,6 +132,7 @@ Status Daemon::Impl::Apply(const DaemonConfig& next, bool initial) {
     built.emplace_back(stream, std::move(models));
   }
 
+  std::lock_guard evaluation_lock(evaluation_mutex);
   std::lock_guard lock(mutex);
   // 2. Listeners: keep unchanged ones, bind new ones; a bind failure undoes the new ones.
   std::map<std::string, std::unique_ptr<StreamListener>> fresh;
@@ -180,7 +185,8 @@ Status Daemon::Impl::Apply(const DaemonConfig& next, bool initial) {
     for (auto& model : models) {
       for (const auto& old_stream : streams) {
         if (old_stream->config().name != stream_config.name) continue;
-        for (const auto& old_model : old_stream->models()) {
+        const auto old_models = old_stream->models();  // held for the loop
+        for (const auto& old_model : *old_models) {
           if (old_model->name() == model->name() && model->AdoptCountsFrom(*old_model)) {
             spdlog::info("{}/{}: kept its window across the reload", stream_config.name,
                          model->name());
@@ -225,7 +231,8 @@ std::shared_ptr<ModelRuntime> Daemon::Impl::Find(const std::string& stream,
   std::lock_guard lock(mutex);
   for (const auto& s : streams) {
     if (s->config().name != stream) continue;
-    for (const auto& m : s->models()) {
+    const auto models = s->models();
+    for (const auto& m : *models) {
       if (m->name() == model) return m;
     }
   }
@@ -247,7 +254,8 @@ void Daemon::Impl::PublishMetrics() {
     current = streams;
   }
   for (const auto& stream : current) {
-    for (const auto& model : stream->models()) {
+    const auto models = stream->models();
+    for (const auto& model : *models) {
       const ModelView view = model->View();
       ModelMetricsSnapshot m;
       m.stream = view.stream;
@@ -279,6 +287,7 @@ void Daemon::Impl::PublishMetrics() {
 }
 
 void Daemon::Impl::EvaluateAll() {
+  std::lock_guard evaluation_lock(evaluation_mutex);
   const auto started = std::chrono::steady_clock::now();
   std::vector<std::shared_ptr<StreamRuntime>> current;
   std::chrono::nanoseconds checkpoint_every;
@@ -289,7 +298,8 @@ void Daemon::Impl::EvaluateAll() {
   }
   std::vector<std::shared_ptr<ModelRuntime>> evaluated;
   for (const auto& stream : current) {
-    for (const auto& model : stream->models()) {
+    const auto models = stream->models();
+    for (const auto& model : *models) {
       if (auto change = model->Evaluate()) OnStateChange(*model, *change);
       RetryProposal(*model);
       evaluated.push_back(model);
@@ -349,8 +359,8 @@ void Daemon::Impl::Notify(ModelRuntime& model, const StateChange& change,
   notice.to_state = CodeStateName(change.to);
   notice.reason = change.reason;
   nlohmann::json figures = ModelJson(view, false);
-  for (const char* key : {"stream", "model", "state", "reason", "proposal", "top_drift",
-                          "warnings", "alert", "table", "table_problem", "state_since"}) {
+  for (const char* key : {"stream", "model", "state", "reason", "proposal", "top_drift", "warnings",
+                          "alert", "table", "table_problem", "state_since"}) {
     figures.erase(key);
   }
   notice.figures = std::move(figures);
@@ -364,10 +374,10 @@ void Daemon::Impl::Notify(ModelRuntime& model, const StateChange& change,
 }
 
 void Daemon::Impl::ReplaceWebhook(const std::optional<WebhookConfig>& next) {
-  const bool same = webhook_config.has_value() == next.has_value() &&
-                    (!next || (next->url == webhook_config->url &&
-                               next->timeout == webhook_config->timeout &&
-                               next->retries == webhook_config->retries));
+  const bool same =
+      webhook_config.has_value() == next.has_value() &&
+      (!next || (next->url == webhook_config->url && next->timeout == webhook_config->timeout &&
+                 next->retries == webhook_config->retries));
   if (same) return;
   if (webhook) webhook->Stop();
   webhook = next ? std::make_unique<WebhookSink>(io, WebhookOptions::FromConfig(*next)) : nullptr;
@@ -378,26 +388,42 @@ std::vector<ProcessSample> Daemon::Impl::ProcessSamples() const {
   std::vector<ProcessSample> samples;
   if (checkpointer) {
     samples.push_back({"codedrift_checkpoint_failures_total",
-                       "Checkpoint writes that failed (full disk, unwritable state_dir).", true, {},
+                       "Checkpoint writes that failed (full disk, unwritable state_dir).",
+                       true,
+                       {},
                        static_cast<double>(checkpointer->failures())});
   }
   samples.push_back({"codedrift_proposal_failures_total",
-                     "Proposals that could not be written (full disk, unwritable state_dir).", true,
-                     {}, static_cast<double>(proposal_failures.load())});
+                     "Proposals that could not be written (full disk, unwritable state_dir).",
+                     true,
+                     {},
+                     static_cast<double>(proposal_failures.load())});
   std::lock_guard lock(mutex);
   if (webhook) {
     const WebhookCounters c = webhook->counters();
-    const std::string help = "Webhook alert deliveries, by result (failed_attempt counts every "
-                             "try; dropped: given up or pushed out of a full queue).";
-    samples.push_back({"codedrift_webhook_deliveries_total", help, true,
-                       {{"result", "delivered"}}, static_cast<double>(c.delivered)});
-    samples.push_back({"codedrift_webhook_deliveries_total", help, true,
-                       {{"result", "failed_attempt"}}, static_cast<double>(c.failed_attempts)});
-    samples.push_back(
-        {"codedrift_webhook_deliveries_total", help, true, {{"result", "dropped"}},
-         static_cast<double>(c.dropped_after_retries + c.dropped_queue_full)});
-    samples.push_back({"codedrift_webhook_queue", "Alerts waiting for webhook delivery.", false,
-                       {}, static_cast<double>(c.queued)});
+    const std::string help =
+        "Webhook alert deliveries, by result (failed_attempt counts every "
+        "try; dropped: given up or pushed out of a full queue).";
+    samples.push_back({"codedrift_webhook_deliveries_total",
+                       help,
+                       true,
+                       {{"result", "delivered"}},
+                       static_cast<double>(c.delivered)});
+    samples.push_back({"codedrift_webhook_deliveries_total",
+                       help,
+                       true,
+                       {{"result", "failed_attempt"}},
+                       static_cast<double>(c.failed_attempts)});
+    samples.push_back({"codedrift_webhook_deliveries_total",
+                       help,
+                       true,
+                       {{"result", "dropped"}},
+                       static_cast<double>(c.dropped_after_retries + c.dropped_queue_full)});
+    samples.push_back({"codedrift_webhook_queue",
+                       "Alerts waiting for webhook delivery.",
+                       false,
+                       {},
+                       static_cast<double>(c.queued)});
   }
   return samples;
 }
@@ -431,8 +457,8 @@ int Daemon::Run() {
   d.checkpointer = std::make_unique<Checkpointer>(d.config.state_dir, d.clock);
   std::vector<std::shared_ptr<ModelRuntime>> all_models;
   for (const auto& stream : d.streams) {
-    const ModelList& list = stream->models();
-    all_models.insert(all_models.end(), list.begin(), list.end());
+    const std::shared_ptr<const ModelList> list = stream->models();
+    all_models.insert(all_models.end(), list->begin(), list->end());
   }
   d.checkpointer->Restore(all_models);
   HttpServerOptions http_options;
@@ -466,8 +492,8 @@ int Daemon::Run() {
   for (int i = 0; i < std::max(1, d.options.io_threads); ++i) {
     threads.emplace_back([&d] { d.io.run(); });
   }
-  d.evaluation = std::make_unique<EvaluationLoop>(d.config.evaluate_every,
-                                                  [&d] { d.EvaluateAll(); });
+  d.evaluation =
+      std::make_unique<EvaluationLoop>(d.config.evaluate_every, [&d] { d.EvaluateAll(); });
   d.evaluation->Start();
   if (!d.options.ready_file.empty()) WriteReadyFile(d.options.ready_file, d.Ports());
   spdlog::info("ready");
@@ -492,8 +518,8 @@ int Daemon::Run() {
     std::vector<std::shared_ptr<ModelRuntime>> models;
     std::lock_guard lock(d.mutex);
     for (const auto& stream : d.streams) {
-      const ModelList& list = stream->models();
-      models.insert(models.end(), list.begin(), list.end());
+      const std::shared_ptr<const ModelList> list = stream->models();
+      models.insert(models.end(), list->begin(), list->end());
     }
     d.checkpointer->WriteAll(models);  // after the final evaluation: nothing received is lost
   }
@@ -509,7 +535,8 @@ int Daemon::Run() {
     std::lock_guard lock(d.mutex);
     if (d.webhook) {
       if (!d.webhook->WaitIdle(std::chrono::steady_clock::now() + std::chrono::seconds(2))) {
-        spdlog::warn("webhook: {} alert(s) not delivered before exit", d.webhook->counters().queued);
+        spdlog::warn("webhook: {} alert(s) not delivered before exit",
+                     d.webhook->counters().queued);
       }
       d.webhook->Stop();
     }
@@ -543,7 +570,8 @@ std::vector<ModelView> Daemon::Views() const {
   }
   std::vector<ModelView> views;
   for (const auto& stream : current) {
-    for (const auto& model : stream->models()) views.push_back(model->View());
+    const auto models = stream->models();
+    for (const auto& model : *models) views.push_back(model->View());
   }
   return views;
 }

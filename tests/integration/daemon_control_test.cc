@@ -1,14 +1,15 @@
 // The real daemon's control plane: config errors before anything binds, reload with good and
 // bad tables, the admin token, SIGTERM with data in flight, HTTP errors.
-#include <arpa/inet.h>
 #include <csignal>
-#include <netinet/in.h>
-#include <sys/socket.h>
-#include <unistd.h>
 
 #include <gtest/gtest.h>
 
 #include "harness.h"
+#include "hostile_clients.h"
+#include <arpa/inet.h>
+#include <netinet/in.h>
+#include <sys/socket.h>
+#include <unistd.h>
 
 namespace codedrift::testing {
 namespace {
@@ -17,8 +18,9 @@ constexpr char kToken[] = "0123456789abcdef-test-token";
 
 std::string TableFor(const std::string& bytes_with_length_3) {
   // A complete prefix code over four bytes plus an escape (Kraft sum 1: 4 * 2^-3 + 2^-1).
-  std::string text = "table: 1\nalphabet: bytes\nkind: prefix\nmax_length: 15\n"
-                     "escape: {length: 1, literal_bits: 8}\nlengths:\n";
+  std::string text =
+      "table: 1\nalphabet: bytes\nkind: prefix\nmax_length: 15\n"
+      "escape: {length: 1, literal_bits: 8}\nlengths:\n";
   for (char c : bytes_with_length_3) {
     char hex[8];
     std::snprintf(hex, sizeof hex, "0x%02x", static_cast<unsigned char>(c));
@@ -108,7 +110,8 @@ TEST(DaemonControl, ReloadSwapsTablesKeepsCountsAndRejectsBadTables) {
   ASSERT_TRUE(WaitFor([&] {
     model = daemon.ModelJson("uplink", "bytes");
     return model.is_object() && model["deployed_mean_bits"] == 3.0;
-  })) << model.dump() << daemon.Log();
+  })) << model.dump()
+      << daemon.Log();
   EXPECT_EQ(model["window_symbols"].get<uint64_t>(), 1000u);
 
   // A bad table is refused with its reason; the running table stays.
@@ -158,9 +161,8 @@ TEST(DaemonControl, ReloadWithNewStreamSettingsOnTheSameAddressKeepsCounting) {
   ASSERT_TRUE(daemon.WaitReady()) << daemon.Log();
   const uint16_t port = daemon.stream_port("uplink");
   SendTcp(port, "abcd\nabcd\n");
-  ASSERT_TRUE(WaitFor([&] {
-    return daemon.Metric("codedrift_records_total", {"stream=\"uplink\""}) == 2.0;
-  }));
+  ASSERT_TRUE(WaitFor(
+      [&] { return daemon.Metric("codedrift_records_total", {"stream=\"uplink\""}) == 2.0; }));
   // Same address, a smaller record limit: the listener is rebuilt, counts carry on.
   std::string changed = config;
   changed.replace(changed.find("    models:"), 0, "    max_record_bytes: 4\n    overlong: drop\n");
@@ -175,6 +177,48 @@ TEST(DaemonControl, ReloadWithNewStreamSettingsOnTheSameAddressKeepsCounting) {
                          {"stream=\"uplink\"", "reason=\"overlong\""}) == 1.0;
   })) << daemon.Log();
   EXPECT_EQ(daemon.Stop(), 0);
+}
+
+// Many reloads while evaluations run every 100 ms: each reload copies the models' evaluators,
+// which must not race the evaluation thread (the TSan build runs this test), keeps the window
+// and counters, and frees the models it retires (resident memory stays flat).
+TEST(DaemonControl, ManyReloadsDuringEvaluationsKeepCountsAndFreeRetiredModels) {
+  TempDir dir;
+  WriteTokenAndTable(dir);
+  // A second model over byte pairs: its evaluator holds arrays over 65,536 ids, so every
+  // retired copy that stayed behind would show in resident memory.
+  DaemonProcess daemon(dir, Config("      - name: pairs\n"
+                                   "        symbols: {kind: bytes, block: 2}\n"
+                                   "        window: {symbols: 100000}\n"));
+  ASSERT_TRUE(daemon.WaitReady()) << daemon.Log();
+  SendTcp(daemon.stream_port("uplink"), std::string(600, 'a') + std::string(400, 'e'));
+  ASSERT_TRUE(WaitFor([&] {
+    return daemon.ModelJson("uplink", "bytes").value("window_symbols", 0u) == 1000u &&
+           daemon.ModelJson("uplink", "pairs").value("window_symbols", 0u) == 500u;
+  })) << daemon.Log();
+  const auto reload = [&] {
+    return HttpCall(daemon.http_port(), "POST", "/api/v1/reload", "",
+                    {std::string("Authorization: Bearer ") + kToken})
+        .status;
+  };
+  for (int i = 0; i < 20; ++i) ASSERT_EQ(reload(), 200);  // warm-up: allocator pools settle
+  const int64_t rss_before = ProcessMemoryBytes(daemon.pid(), "VmRSS:");
+  for (int i = 0; i < 600; ++i) ASSERT_EQ(reload(), 200) << "reload " << i;
+  const int64_t rss_after = ProcessMemoryBytes(daemon.pid(), "VmRSS:");
+  ASSERT_GT(rss_before, 0);
+  if (!kUnderSanitizer) {  // ASan's quarantine keeps freed memory resident on purpose
+    EXPECT_LT(rss_after - rss_before, int64_t{2} << 20)
+        << "600 reloads grew the daemon from " << (rss_before >> 10) << " KiB to "
+        << (rss_after >> 10) << " KiB";
+  }
+  const nlohmann::json model = daemon.ModelJson("uplink", "bytes");
+  EXPECT_EQ(model["window_symbols"].get<uint64_t>(), 1000u) << model.dump();
+  EXPECT_DOUBLE_EQ(model["deployed_mean_bits"].get<double>(), (600 * 3 + 400 * 9) / 1000.0);
+  SendTcp(daemon.stream_port("uplink"), "abcd\n");
+  EXPECT_TRUE(WaitFor([&] {
+    return daemon.Metric("codedrift_bytes_total", {"stream=\"uplink\""}) == 1005.0;
+  })) << daemon.Log();
+  EXPECT_EQ(daemon.Stop(), 0) << daemon.Log();
 }
 
 TEST(DaemonControl, HttpErrorsAreSpecific) {
@@ -211,9 +255,8 @@ TEST(DaemonControl, SigtermDrainsDataInFlight) {
   ASSERT_EQ(::send(fd, lines.data(), lines.size(), 0), static_cast<ssize_t>(lines.size()));
   // The daemon has accepted the connection (a connection still in the kernel's backlog is
   // not the daemon's yet); its data may or may not have been read.
-  ASSERT_TRUE(WaitFor([&] {
-    return daemon.Metric("codedrift_connections", {"stream=\"uplink\""}) == 1.0;
-  }));
+  ASSERT_TRUE(WaitFor(
+      [&] { return daemon.Metric("codedrift_connections", {"stream=\"uplink\""}) == 1.0; }));
   EXPECT_EQ(daemon.Stop(SIGTERM), 0) << daemon.Log();
   ::close(fd);
   EXPECT_NE(daemon.Log().find("uplink: 5000 records"), std::string::npos) << daemon.Log();

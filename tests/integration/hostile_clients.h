@@ -144,6 +144,14 @@ inline int StatusOf(std::string_view reply) {
   return std::stoi(std::string(reply.substr(9, 3)));
 }
 
+// True in ASan/TSan builds: their allocators keep freed memory resident (quarantine, shadow), so
+// resident-memory bounds mean little there.
+#if defined(__SANITIZE_ADDRESS__) || defined(__SANITIZE_THREAD__)
+inline constexpr bool kUnderSanitizer = true;
+#else
+inline constexpr bool kUnderSanitizer = false;
+#endif
+
 // A memory figure of a process from /proc/PID/status, in bytes: "VmRSS:" (resident now) or
 // "VmHWM:" (the peak resident size so far); -1 when unreadable.
 inline int64_t ProcessMemoryBytes(pid_t pid, const std::string& field) {
