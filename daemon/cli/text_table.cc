@@ -45,7 +45,8 @@ std::string FormatNumber(double value, int decimals) {
 }
 
 std::string DisplayKey(const Alphabet& alphabet, const SymbolKey& key) {
-  if (alphabet.kind != AlphabetKind::kTokens) return alphabet.FormatKey(key);
+  // The overflow symbol ("") is shown quoted in every alphabet, so it is never a blank cell.
+  if (alphabet.kind != AlphabetKind::kTokens && !key.empty()) return alphabet.FormatKey(key);
   return QuoteToken(key);
 }
 
