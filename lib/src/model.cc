@@ -61,17 +61,6 @@ std::unique_ptr<Window> MakeWindow(const WindowSpec& spec, bool raw_bytes, const
 // counts under it, beats counting straight into the model's histogram under the lock.
 constexpr size_t kCountOutsideLockBytes = 2048;
 
-// The records of a lines run: each line with its '\n'.
-void SplitLines(std::string_view run, std::vector<std::string_view>& lines) {
-  lines.clear();
-  while (!run.empty()) {
-    const size_t end = run.find('\n');
-    const size_t length = end == std::string_view::npos ? run.size() : end + 1;
-    lines.push_back(run.substr(0, length));
-    run.remove_prefix(length);
-  }
-}
-
 }  // namespace
 
 Model::Model(SymbolizerSpec symbolizer, WindowSpec window, const Clock& clock)
@@ -96,6 +85,18 @@ SymbolId Model::SymbolizeTokens(std::span<const std::string_view> records,
   // tokens come in bursts, mostly while a model warms up).
   std::unique_lock lock(symbolizer_mutex_);
   for (; done < records.size(); ++done) token_symbolizer_->Append(records[done], ids);
+  return token_symbolizer_->IdLimit();
+}
+
+SymbolId Model::SymbolizeTokenLines(std::string_view run, std::vector<SymbolId>& ids) {
+  size_t done = 0;
+  {
+    std::shared_lock lock(symbolizer_mutex_);
+    done = token_symbolizer_->AppendKnownLines(run, ids);
+    if (done == run.size()) return token_symbolizer_->IdLimit();
+  }
+  std::unique_lock lock(symbolizer_mutex_);
+  token_symbolizer_->AppendLines(run.substr(done), ids);
   return token_symbolizer_->IdLimit();
 }
 
@@ -136,11 +137,9 @@ void Model::IngestRun(std::string_view run, uint64_t records) {
     return;
   }
   if (tokens_) {
-    thread_local std::vector<std::string_view> lines;
     thread_local std::vector<SymbolId> ids;
-    SplitLines(run, lines);
     ids.clear();
-    const SymbolId limit = SymbolizeTokens(lines, ids);
+    const SymbolId limit = SymbolizeTokenLines(run, ids);
     std::lock_guard lock(mutex_);
     AddIds(ids, limit, records);
     return;

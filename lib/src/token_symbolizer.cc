@@ -75,6 +75,77 @@ bool TokenSymbolizer::AppendKnown(std::string_view record, std::vector<SymbolId>
   return mask_digits_ ? AppendKnownAs<true>(record, out) : AppendKnownAs<false>(record, out);
 }
 
+// Newlines are delimiters, so tokens never hold one; the delimiter bytes between two tokens
+// (usually one) are checked for newlines, each of which ends a record. A token right before a
+// newline loses one trailing '\r', as Append strips a line's "\r\n".
+template <class Lookup>
+size_t TokenSymbolizer::ScanLines(std::string_view run, std::vector<SymbolId>& out,
+                                  Lookup&& lookup) const {
+  const char* const begin = run.data();
+  const char* const end = begin + run.size();
+  const char* gap = begin;       // the delimiters since the last token start here
+  const char* line = begin;      // the current line starts here
+  size_t line_ids = out.size();  // and its ids here in `out`
+  const char* stopped = nullptr;
+  const auto end_lines = [&](const char* from, const char* to) __attribute__((always_inline)) {
+    for (const char* q = from; q != to; ++q) {
+      if (*q != '\n') continue;
+      out.push_back(kEndOfRecordId);
+      line = q + 1;
+      line_ids = out.size();
+    }
+  };
+  delimiters_.ForEachTokenWhile(
+      run, [&](const char* token, size_t length) __attribute__((always_inline)) {
+        end_lines(gap, token);
+        gap = token + length;
+        if (token[length - 1] == '\r' && gap != end && *gap == '\n' && --length == 0) return true;
+        const uint32_t id = lookup(begin, token, length);
+        if (id == TokenTable::kMissing) {
+          out.resize(line_ids);
+          stopped = line;
+          return false;
+        }
+        out.push_back(Found(id));
+        return true;
+      });
+  if (stopped != nullptr) return static_cast<size_t>(stopped - begin);
+  end_lines(gap, end);
+  if (line != end) out.push_back(kEndOfRecordId);  // a last line without its newline
+  return run.size();
+}
+
+void TokenSymbolizer::AppendLines(std::string_view run, std::vector<SymbolId>& out) {
+  if (mask_digits_) {
+    ScanLines(
+        run, out,
+        [this](const char* begin, const char* token, size_t length) __attribute__((always_inline)) {
+          return table_.Intern<true>(begin, token, length, max_distinct_);
+        });
+  } else {
+    ScanLines(
+        run, out,
+        [this](const char* begin, const char* token, size_t length) __attribute__((always_inline)) {
+          return table_.Intern<false>(begin, token, length, max_distinct_);
+        });
+  }
+}
+
+size_t TokenSymbolizer::AppendKnownLines(std::string_view run, std::vector<SymbolId>& out) const {
+  if (mask_digits_) {
+    return ScanLines(
+        run, out,
+        [this](const char* begin, const char* token, size_t length) __attribute__((always_inline)) {
+          return table_.Find<true>(begin, token, length, max_distinct_);
+        });
+  }
+  return ScanLines(
+      run, out,
+      [this](const char* begin, const char* token, size_t length) __attribute__((always_inline)) {
+        return table_.Find<false>(begin, token, length, max_distinct_);
+      });
+}
+
 SymbolId TokenSymbolizer::IdLimit() const { return kFirstTokenId + table_.size(); }
 
 SymbolKey TokenSymbolizer::KeyOf(SymbolId id) const {

@@ -26,6 +26,12 @@ class TokenSymbolizer final : public Symbolizer {
   // returns true; otherwise returns false and leaves `out` as it was.
   bool AppendKnown(std::string_view record, std::vector<SymbolId>& out) const;
 
+  // A run of lines (each ending in '\n', the last one possibly not), in one scan: the ids Append
+  // gives each line in turn. AppendKnownLines stores nothing: it stops before the first line
+  // holding a token to store and returns the bytes of the lines it did (all: run.size()).
+  void AppendLines(std::string_view run, std::vector<SymbolId>& out);
+  size_t AppendKnownLines(std::string_view run, std::vector<SymbolId>& out) const;
+
   SymbolId IdLimit() const override;
   SymbolKey KeyOf(SymbolId id) const override;
   SymbolizerState ExportState() const override;
@@ -34,6 +40,10 @@ class TokenSymbolizer final : public Symbolizer {
  private:
   template <bool kMaskDigits>
   bool AppendKnownAs(std::string_view record, std::vector<SymbolId>& out) const;
+  // The scan of a run of lines; lookup(run_begin, token, length) gives an id, or
+  // TokenTable::kMissing to stop before the line.
+  template <class Lookup>
+  size_t ScanLines(std::string_view run, std::vector<SymbolId>& out, Lookup&& lookup) const;
 
   Alphabet alphabet_ = Alphabet::Tokens();
   bool mask_digits_;

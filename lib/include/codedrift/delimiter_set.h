@@ -57,6 +57,16 @@ class DelimiterSet {
   // Calls token(start, length) for every maximal run of non-delimiter bytes of `text`, in order.
   template <class Fn>
   void ForEachToken(std::string_view text, Fn&& token) const {
+    ForEachTokenWhile(
+        text, [&](const char* start, size_t length) __attribute__((always_inline)) {
+          token(start, length);
+          return true;
+        });
+  }
+
+  // The same, stopping after the first call of token(start, length) that returns false.
+  template <class Fn>
+  void ForEachTokenWhile(std::string_view text, Fn&& token) const {
     const char* const data = text.data();
     const size_t size = text.size();
     size_t start = 0;
@@ -78,13 +88,13 @@ class DelimiterSet {
         const uint64_t ends = delimiters & ahead;
         if (ends == 0) break;  // the token runs on into the next 64 bytes
         const int e = __builtin_ctzll(ends);
-        token(data + start, base + static_cast<size_t>(e) - start);
+        if (!token(data + start, base + static_cast<size_t>(e) - start)) return;
         in_token = false;
         ahead = ~uint64_t{0} << e;
       }
     }
     // A token that reaches the end of the last full 64 bytes ends with the text.
-    if (in_token) token(data + start, size - start);
+    if (in_token) (void)token(data + start, size - start);
   }
 
  private:

@@ -92,6 +92,8 @@ class Model {
   // symbolizer_mutex_, new ones stored under its exclusive lock; ids then go to the window
   // under mutex_ (any order of two concurrent runs is a valid order of arrival).
   SymbolId SymbolizeTokens(std::span<const std::string_view> records, std::vector<SymbolId>& ids);
+  // The same for a run of lines, scanned whole (TokenSymbolizer::AppendKnownLines).
+  SymbolId SymbolizeTokenLines(std::string_view run, std::vector<SymbolId>& ids);
   // Under mutex_: counts and pushes ids (all below `limit`) of `records` records.
   void AddIds(const std::vector<SymbolId>& ids, SymbolId limit, uint64_t records);
 
