@@ -98,6 +98,15 @@ awk -v z="$zlib_s" -v zb="$zlib_bytes" -v base="$baseline_s" -v n="$(nproc)" -v 
          " core; >= %.3f s on %d cores), 0.5x wc -l allows %.3f s: the goal is for --deflate-budget 0\n",
          z, zb / 1048576, zb / z / 1e6, z / n, n, 2 * base
 }'
+report "inspect --symbols tokens" $(measure "$codedrift" inspect --symbols tokens "$capture")
+report "inspect --symbols tokens --threads 1" \
+  $(measure "$codedrift" inspect --symbols tokens --threads 1 "$capture")
+report "inspect --symbols tokens --mask-digits" \
+  $(measure "$codedrift" inspect --symbols tokens --mask-digits "$capture")
+report "inspect --symbols tokens --mask-digits --threads 1" \
+  $(measure "$codedrift" inspect --symbols tokens --mask-digits --threads 1 "$capture")
+echo "  goals (DESIGN.md section 7): inspect bytes >= 0.5x wc -l; tokens >= 150 MB/s offline"
+
 # ---------------------------------------------------------------------------------------------
 # HOOKS: daemon ingest benchmarks go here (owned by the daemon engineer).
 # Available: $build, $codedrift, $capture (page-cached), $bytes, $runs, `measure CMD...` (median
