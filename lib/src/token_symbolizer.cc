@@ -88,6 +88,7 @@ size_t TokenSymbolizer::ScanLines(std::string_view run, std::vector<SymbolId>& o
   size_t line_ids = out.size();  // and its ids here in `out`
   const char* stopped = nullptr;
   const auto end_lines = [&](const char* from, const char* to) __attribute__((always_inline)) {
+    if (to - from == 1 && *from != '\n') return;  // the usual gap: one delimiter
     for (const char* q = from; q != to; ++q) {
       if (*q != '\n') continue;
       out.push_back(kEndOfRecordId);
