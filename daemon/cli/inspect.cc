@@ -74,11 +74,12 @@ void AddSymbolFigures(const StreamCounts& counts, const InspectOptions& options,
   if (TooFewSymbols(estimate.symbols, estimate.distinct)) {
     report.warnings.push_back(TooFewWarning("symbols", estimate.symbols, estimate.distinct));
   }
-  if (counts.all.alphabet().kind == AlphabetKind::kTokens) {
+  if (counts.all.alphabet().HasOverflowSymbol()) {
     const uint64_t overflow = counts.all.Count(SymbolKey(kOverflowToken));
+    const char* what = counts.all.alphabet().kind == AlphabetKind::kTokens ? " tokens" : " symbols";
     if (overflow > 0) {
-      report.warnings.push_back("--max-distinct reached: " + std::to_string(overflow) +
-                                " tokens were counted as the overflow symbol \"\"");
+      report.warnings.push_back("--max-distinct reached: " + std::to_string(overflow) + what +
+                                " were counted as the overflow symbol \"\"");
     }
   }
 }
