@@ -86,14 +86,14 @@ void SoakRun::Finish() {
   const RssJudgement rss = JudgeRss(samples_, options_.warmup);
   if (rss.judged) {
     verdict_.Check(rss.growth <= options_.rss_bound,
-                   Text("resident memory flat after the warm-up: %.1f MB at %.0f s, %.1f MB at "
-                        "the end (median of the last 3 samples): %+.1f%% (bound %+.0f%%)",
+                   Text("resident memory flat after the warm-up: median %.1f MB in the minute "
+                        "from %.0f s, %.1f MB in the last minute: %+.1f%% (bound %+.0f%%)",
                         rss.reference_mb, rss.reference_at, rss.final_mb, rss.growth * 100,
                         options_.rss_bound * 100));
   } else {
     std::printf(
         "  %-6s resident memory: not judged, the run is too short for a %.0f s warm-up "
-        "and 3 samples after it (peak %.1f MB)\n",
+        "and two separate minutes after it (peak %.1f MB)\n",
         "-", options_.warmup, rss.peak_mb);
   }
 

@@ -91,20 +91,26 @@ RssJudgement JudgeRss(const std::vector<SamplePoint>& samples, double warmup_sec
   for (const SamplePoint& s : samples) {
     j.peak_mb = std::max(j.peak_mb, static_cast<double>(s.rss_bytes) / 1e6);
   }
-  const auto reference = std::find_if(samples.begin(), samples.end(), [&](const SamplePoint& s) {
-    return s.seconds >= warmup_seconds;
-  });
-  // Three samples after the reference, and not the reference itself among them.
-  if (reference == samples.end() || samples.end() - reference < 4) return j;
-  std::vector<double> last;
-  for (auto it = samples.end() - 3; it != samples.end(); ++it) {
-    last.push_back(static_cast<double>(it->rss_bytes) / 1e6);
-  }
-  std::sort(last.begin(), last.end());
+  if (samples.empty()) return j;
+  // Medians over a minute, not single samples: each evaluation copies every window, so resident
+  // memory swings by a few MB from one sample to the next without growing.
+  constexpr double kSpan = 60;
+  const double end = samples.back().seconds;
+  const auto median_mb = [&](double from, double to) {
+    std::vector<double> mb;
+    for (const SamplePoint& s : samples) {
+      if (s.seconds >= from && s.seconds < to) mb.push_back(static_cast<double>(s.rss_bytes) / 1e6);
+    }
+    std::sort(mb.begin(), mb.end());
+    return mb.size() < 3 ? -1.0 : mb[mb.size() / 2];
+  };
+  // The first minute after the warm-up against the last minute, the two never overlapping.
+  if (end - kSpan < warmup_seconds + kSpan) return j;
+  j.reference_mb = median_mb(warmup_seconds, warmup_seconds + kSpan);
+  j.final_mb = median_mb(end - kSpan, end + 1);
+  if (j.reference_mb <= 0 || j.final_mb <= 0) return j;
   j.judged = true;
-  j.reference_mb = static_cast<double>(reference->rss_bytes) / 1e6;
-  j.reference_at = reference->seconds;
-  j.final_mb = last[1];
+  j.reference_at = warmup_seconds;
   j.growth = j.final_mb / j.reference_mb - 1;
   return j;
 }

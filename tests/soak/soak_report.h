@@ -33,7 +33,7 @@ double IntervalRecordsPerSecond(const std::vector<SoakStream>& streams, const Sa
 // Resident memory after the warm-up: the median of the last three samples against the first
 // sample at or after `warmup_seconds`.
 struct RssJudgement {
-  bool judged = false;  // false: the run was too short to have a warm-up and three samples after
+  bool judged = false;  // false: too short for a warm-up and two separate minutes after it
   double reference_mb = 0, reference_at = 0, final_mb = 0, growth = 0, peak_mb = 0;
 };
 RssJudgement JudgeRss(const std::vector<SamplePoint>& samples, double warmup_seconds);
