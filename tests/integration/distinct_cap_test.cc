@@ -29,12 +29,6 @@ constexpr int kMaxDistinct = 1000;
 // blocks, each a key in the model, in every sample and in the evaluator's count maps (190 MiB
 // measured with max_distinct 16777216); 64 MiB sits well between the two.
 constexpr int64_t kMaxDaemonRssBytes = int64_t{64} << 20;
-#if defined(__SANITIZE_ADDRESS__) || defined(__SANITIZE_THREAD__)
-// Sanitizer builds add shadow memory and (ASan) a quarantine of up to 256 MiB of freed blocks.
-constexpr int64_t kSanitizerRssAllowance = int64_t{800} << 20;
-#else
-constexpr int64_t kSanitizerRssAllowance = 0;
-#endif
 
 std::string Config() {
   const std::string cap = std::to_string(kMaxDistinct);

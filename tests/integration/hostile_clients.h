@@ -151,6 +151,9 @@ inline constexpr bool kUnderSanitizer = true;
 #else
 inline constexpr bool kUnderSanitizer = false;
 #endif
+// What a sanitizer build may add to a resident-memory bound: shadow memory and (ASan) a
+// quarantine of up to 256 MiB of freed blocks.
+inline constexpr int64_t kSanitizerRssAllowance = kUnderSanitizer ? int64_t{800} << 20 : 0;
 
 // A memory figure of a process from /proc/PID/status, in bytes: "VmRSS:" (resident now) or
 // "VmHWM:" (the peak resident size so far); -1 when unreadable.

@@ -30,12 +30,6 @@ using std::chrono::seconds;
 // refused connections leave nothing behind. 200 MiB is far above the honest working set and
 // far below what buffering the line (1 GiB) or a leak per connection would cost.
 constexpr int64_t kMaxDaemonRssBytes = int64_t{200} << 20;
-#if defined(__SANITIZE_ADDRESS__) || defined(__SANITIZE_THREAD__)
-// Sanitizer builds add shadow memory and (ASan) a quarantine of up to 256 MiB of freed blocks.
-constexpr int64_t kSanitizerRssAllowance = int64_t{800} << 20;
-#else
-constexpr int64_t kSanitizerRssAllowance = 0;
-#endif
 
 constexpr uint32_t kMaxRecordBytes = 4096;
 constexpr char kAdminToken[] = "hostile-test-admin-token-0123456789";
