@@ -32,21 +32,6 @@ sockaddr_in Loopback(uint16_t port) {
 
 std::string Errno(const std::string& what) { return what + ": " + std::strerror(errno); }
 
-// Binds a socket of `type` to 127.0.0.1:0; returns the fd (or -1) and sets `port`.
-int BindLoopback(int type, uint16_t& port) {
-  const int fd = ::socket(AF_INET, type | SOCK_CLOEXEC, 0);
-  if (fd < 0) return -1;
-  sockaddr_in addr = Loopback(0);
-  socklen_t length = sizeof addr;
-  if (::bind(fd, reinterpret_cast<sockaddr*>(&addr), sizeof addr) != 0 ||
-      ::getsockname(fd, reinterpret_cast<sockaddr*>(&addr), &length) != 0) {
-    ::close(fd);
-    return -1;
-  }
-  port = ntohs(addr.sin_port);
-  return fd;
-}
-
 // Sends `slice` of the capture on `fd`, half-closes, and waits for the peer's close.
 std::string SendSlice(int fd, std::string_view text, const Slice& slice) {
   uint64_t pos = slice.start;
@@ -70,6 +55,36 @@ std::string SendSlice(int fd, std::string_view text, const Slice& slice) {
 }
 
 }  // namespace
+
+int BindLoopback(int type, uint16_t& port) {
+  const int fd = ::socket(AF_INET, type | SOCK_CLOEXEC, 0);
+  if (fd < 0) return -1;
+  sockaddr_in addr = Loopback(0);
+  socklen_t length = sizeof addr;
+  if (::bind(fd, reinterpret_cast<sockaddr*>(&addr), sizeof addr) != 0 ||
+      ::getsockname(fd, reinterpret_cast<sockaddr*>(&addr), &length) != 0) {
+    ::close(fd);
+    return -1;
+  }
+  port = ntohs(addr.sin_port);
+  return fd;
+}
+
+void AcceptUntilStopped(int listen_fd, const std::atomic<bool>& stopping,
+                        const std::function<void(int)>& serve) {
+  for (;;) {
+    const int fd = ::accept4(listen_fd, nullptr, nullptr, SOCK_CLOEXEC);
+    if (stopping) {
+      if (fd >= 0) ::close(fd);
+      return;
+    }
+    if (fd < 0) {
+      if (errno == EINTR || errno == ECONNABORTED) continue;
+      return;
+    }
+    serve(fd);
+  }
+}
 
 double WallSeconds() {
   return std::chrono::duration<double>(std::chrono::steady_clock::now().time_since_epoch()).count();
@@ -245,18 +260,8 @@ Status PlainTcpReceiver::Start() {
 }
 
 void PlainTcpReceiver::AcceptLoop() {
-  for (;;) {
-    const int fd = ::accept4(listen_fd_, nullptr, nullptr, SOCK_CLOEXEC);
-    if (stopping_) {
-      if (fd >= 0) ::close(fd);
-      return;
-    }
-    if (fd < 0) {
-      if (errno == EINTR || errno == ECONNABORTED) continue;
-      return;
-    }
-    connections_.emplace_back([this, fd] { Serve(fd); });
-  }
+  AcceptUntilStopped(listen_fd_, stopping_,
+                     [this](int fd) { connections_.emplace_back([this, fd] { Serve(fd); }); });
 }
 
 void PlainTcpReceiver::Serve(int fd) {

@@ -7,6 +7,7 @@
 #include <algorithm>
 #include <atomic>
 #include <cstdint>
+#include <functional>
 #include <memory>
 #include <string>
 #include <string_view>
@@ -16,6 +17,13 @@
 #include "codedrift/result.h"
 
 namespace codedrift::bench {
+
+// Binds a socket of `type` to 127.0.0.1:0; returns the fd (or -1) and sets `port`.
+int BindLoopback(int type, uint16_t& port);
+// Accepts connections on `listen_fd` and hands each to `serve` until `stopping` is set (checked
+// after each accept, so Stop wakes it by connecting or shutting the socket) or accept fails.
+void AcceptUntilStopped(int listen_fd, const std::atomic<bool>& stopping,
+                        const std::function<void(int)>& serve);
 
 // Wall and CPU seconds of the calling thread, for throughput per CPU-second on a shared machine.
 double WallSeconds();

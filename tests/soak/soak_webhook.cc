@@ -9,8 +9,7 @@
 
 #include <nlohmann/json.hpp>
 
-#include <arpa/inet.h>
-#include <netinet/in.h>
+#include "ingest_load_net.h"
 #include <sys/socket.h>
 #include <sys/time.h>
 #include <unistd.h>
@@ -49,35 +48,19 @@ void WriteAll(int fd, const std::string& bytes) {
 FlakyWebhookReceiver::~FlakyWebhookReceiver() { Stop(); }
 
 Status FlakyWebhookReceiver::Start() {
-  listen_fd_ = ::socket(AF_INET, SOCK_STREAM | SOCK_CLOEXEC, 0);
-  sockaddr_in addr{};
-  addr.sin_family = AF_INET;
-  addr.sin_addr.s_addr = htonl(INADDR_LOOPBACK);
-  socklen_t length = sizeof addr;
-  if (listen_fd_ < 0 || ::bind(listen_fd_, reinterpret_cast<sockaddr*>(&addr), sizeof addr) != 0 ||
-      ::listen(listen_fd_, 16) != 0 ||
-      ::getsockname(listen_fd_, reinterpret_cast<sockaddr*>(&addr), &length) != 0) {
+  listen_fd_ = bench::BindLoopback(SOCK_STREAM, port_);
+  if (listen_fd_ < 0 || ::listen(listen_fd_, 16) != 0) {
     return Error{std::string("webhook receiver: ") + std::strerror(errno)};
   }
-  port_ = ntohs(addr.sin_port);
   thread_ = std::thread([this] { Loop(); });
   return Ok{};
 }
 
 void FlakyWebhookReceiver::Loop() {
-  for (;;) {
-    const int fd = ::accept4(listen_fd_, nullptr, nullptr, SOCK_CLOEXEC);
-    if (stopping_) {
-      if (fd >= 0) ::close(fd);
-      return;
-    }
-    if (fd < 0) {
-      if (errno == EINTR || errno == ECONNABORTED) continue;
-      return;
-    }
+  bench::AcceptUntilStopped(listen_fd_, stopping_, [this](int fd) {
     Serve(fd);
     ::close(fd);
-  }
+  });
 }
 
 void FlakyWebhookReceiver::Serve(int fd) {
