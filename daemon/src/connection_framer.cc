@@ -13,37 +13,20 @@ bool ConnectionFramer::Feed(std::string_view chunk, const RecordHandler& handler
       lines->Feed(chunk, handler);
       return true;
     }
-    // Whole lines inside `chunk` follow one another with no gap, so a run is a start, an end
-    // and a count. A line completed from earlier chunks (in the framer's carry buffer) or a
-    // truncated one ends the run and goes out on its own, so the order is kept.
-    const auto chunk_begin = reinterpret_cast<uintptr_t>(chunk.data());
-    const uintptr_t chunk_end = chunk_begin + chunk.size();
-    const char* run_begin = nullptr;
-    const char* run_end = nullptr;
-    uint64_t run_records = 0;
-    const auto flush = [&] {
-      if (run_records == 0) return;
-      run_handler(std::string_view(run_begin, static_cast<size_t>(run_end - run_begin)),
-                  run_records);
-      run_records = 0;
-    };
-    lines->Feed(chunk, [&](std::string_view record) {
-      const auto at = reinterpret_cast<uintptr_t>(record.data());
-      const bool whole_in_chunk = at >= chunk_begin && at + record.size() <= chunk_end &&
-                                  !record.empty() && record.back() == '\n';
-      if (!whole_in_chunk) {
-        flush();
-        handler(record);
-        return;
-      }
-      if (run_records == 0 || record.data() != run_end) {
-        flush();
-        run_begin = record.data();
-      }
-      run_end = record.data() + record.size();
-      ++run_records;
-    });
-    flush();
+    // Runs of whole lines go out in one call each; whatever the fast path cannot take (the end
+    // of a line begun in an earlier chunk, an overlong line, a partial last line) goes through
+    // Feed one line at a time, so the order is kept.
+    while (!chunk.empty()) {
+      uint64_t records = 0;
+      const size_t whole = lines->TakeWholeLines(chunk, records);
+      if (records > 0) run_handler(chunk.substr(0, whole), records);
+      chunk.remove_prefix(whole);
+      if (chunk.empty()) break;
+      const size_t newline = chunk.find('\n');
+      const size_t piece = newline == std::string_view::npos ? chunk.size() : newline + 1;
+      lines->Feed(chunk.substr(0, piece), handler);
+      chunk.remove_prefix(piece);
+    }
     return true;
   }
   return std::get<LengthPrefixFramer>(framer_).Feed(chunk, handler);

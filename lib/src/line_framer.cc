@@ -1,6 +1,10 @@
 #include <algorithm>
 #include <cstring>
 
+#if defined(__SSE2__)
+#include <emmintrin.h>
+#endif
+
 #include "codedrift/framer.h"
 
 namespace codedrift {
@@ -11,6 +15,26 @@ namespace {
 size_t FindNewline(const char* data, size_t size) {
   const void* hit = size == 0 ? nullptr : std::memchr(data, '\n', size);
   return hit == nullptr ? size : static_cast<size_t>(static_cast<const char*>(hit) - data);
+}
+
+// Bit i is set when p[i] is '\n', for i < n <= 64. Full blocks take four 16-byte compares
+// (SSE2 is part of x86-64); the short tail of a chunk is read byte by byte.
+uint64_t NewlineMask(const char* p, size_t n) {
+#if defined(__SSE2__)
+  if (n == 64) {
+    const __m128i newline = _mm_set1_epi8('\n');
+    uint64_t mask = 0;
+    for (int i = 0; i < 4; ++i) {
+      const __m128i v = _mm_loadu_si128(reinterpret_cast<const __m128i*>(p + 16 * i));
+      mask |= uint64_t{static_cast<uint32_t>(_mm_movemask_epi8(_mm_cmpeq_epi8(v, newline)))}
+              << (16 * i);
+    }
+    return mask;
+  }
+#endif
+  uint64_t mask = 0;
+  for (size_t i = 0; i < n; ++i) mask |= uint64_t{p[i] == '\n'} << i;
+  return mask;
 }
 
 }  // namespace
@@ -76,6 +100,28 @@ void LineFramer::Feed(std::string_view chunk, RecordSink sink) {
     }
     pos += room;
   }
+}
+
+size_t LineFramer::TakeWholeLines(std::string_view chunk, uint64_t& records) {
+  records = 0;
+  if (discarding_ || !carry_.empty()) return 0;
+  const char* const data = chunk.data();
+  const size_t size = chunk.size();
+  size_t line_start = 0;  // the end of the last whole line taken
+  for (size_t base = 0; base < size; base += 64) {
+    const size_t n = size - base < 64 ? size - base : 64;
+    for (uint64_t newlines = NewlineMask(data + base, n); newlines != 0; newlines &= newlines - 1) {
+      const size_t end = base + static_cast<size_t>(__builtin_ctzll(newlines)) + 1;
+      if (end - line_start > max_record_bytes_) {  // overlong: Feed decides its fate
+        counters_.records += records;
+        return line_start;
+      }
+      line_start = end;
+      ++records;
+    }
+  }
+  counters_.records += records;
+  return line_start;
 }
 
 void LineFramer::Finish(RecordSink sink) {

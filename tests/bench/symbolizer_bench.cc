@@ -1,5 +1,6 @@
-// Symbolizer and byte-histogram throughput against same-run baselines (memchr newline count,
-// split-only tokenizing), so results read as ratios rather than machine-dependent absolutes.
+// Symbolizer, byte-histogram and line-framing throughput against same-run baselines (memchr
+// newline count, split-only tokenizing), so results read as ratios rather than
+// machine-dependent absolutes.
 #include <array>
 #include <cstdio>
 #include <cstring>
@@ -11,6 +12,7 @@
 #include <benchmark/benchmark.h>
 
 #include "codedrift/byte_histogram.h"
+#include "codedrift/framer.h"
 #include "codedrift/symbolizer.h"
 
 namespace codedrift {
@@ -118,6 +120,38 @@ void BM_Memchr_Newlines(benchmark::State& state) {
   state.SetBytesProcessed(static_cast<int64_t>(state.iterations() * buffer.size()));
 }
 BENCHMARK(BM_Memchr_Newlines)->Unit(benchmark::kMillisecond);
+
+// Line framing of 64 KiB receive buffers, as a connection sees them: range(0) = 0 finds each
+// line with Feed (one memchr and one call per line), 1 takes the runs of whole lines with
+// TakeWholeLines (the daemon's path). Compare both with BM_Memchr_Newlines.
+void BM_LineFramer_Chunks(benchmark::State& state) {
+  const std::string& buffer = BigBuffer();
+  constexpr size_t kChunk = 64 * 1024;
+  LineFramer framer(64 * 1024, OverlongPolicy::kTruncate);
+  uint64_t records = 0;
+  const auto count = [&](std::string_view) { ++records; };
+  for (auto _ : state) {
+    for (size_t at = 0; at < buffer.size(); at += kChunk) {
+      std::string_view chunk = std::string_view(buffer).substr(at, kChunk);
+      if (state.range(0) == 0) {
+        framer.Feed(chunk, count);
+        continue;
+      }
+      while (!chunk.empty()) {  // as ConnectionFramer does
+        uint64_t whole_records = 0;
+        chunk.remove_prefix(framer.TakeWholeLines(chunk, whole_records));
+        records += whole_records;
+        const size_t newline = chunk.find('\n');
+        const size_t piece = newline == std::string_view::npos ? chunk.size() : newline + 1;
+        framer.Feed(chunk.substr(0, piece), count);
+        chunk.remove_prefix(piece);
+      }
+    }
+    benchmark::DoNotOptimize(records);
+  }
+  state.SetBytesProcessed(static_cast<int64_t>(state.iterations() * buffer.size()));
+}
+BENCHMARK(BM_LineFramer_Chunks)->Arg(0)->Arg(1)->Unit(benchmark::kMillisecond);
 
 // Tokens, record by record as the daemon sees them; range(0) = mask_digits. The symbolizer
 // lives across iterations, so after the first pass the table is warm and full (timestamps

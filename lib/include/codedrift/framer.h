@@ -61,6 +61,11 @@ class LineFramer {
   LineFramer(uint32_t max_record_bytes, OverlongPolicy overlong);
 
   void Feed(std::string_view chunk, RecordSink sink);
+  // The fast path for chunks of many lines: when no partial line is pending, takes the longest
+  // prefix of `chunk` made of whole lines that each fit max_record_bytes, counts them as
+  // records (into `records` and counters()) and returns the prefix's length. Feed must take
+  // what follows it. Scans 64 bytes per step with no call per line.
+  size_t TakeWholeLines(std::string_view chunk, uint64_t& records);
   // The stream ended: emits an unterminated final line, then resets for reuse.
   void Finish(RecordSink sink);
 
