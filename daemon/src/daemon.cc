@@ -17,6 +17,7 @@
 #include "checkpointer.h"
 #include "evaluation_loop.h"
 #include "http_server.h"
+#include "io_pool.h"
 #include "metrics.h"
 #include "proposal_writer.h"
 #include "routes.h"
@@ -59,6 +60,7 @@ void WriteReadyFile(const std::string& path, const nlohmann::json& doc) {
 struct Daemon::Impl {
   Impl(DaemonConfig config, DaemonOptions options)
       : options(std::move(options)),
+        io(this->options.io_threads),
         metrics(CODEDRIFT_VERSION),
         config(std::move(config)),
         proposals(this->config.state_dir) {}
@@ -81,7 +83,7 @@ struct Daemon::Impl {
 
   DaemonOptions options;
   SteadyClock clock;
-  asio::io_context io;
+  IoPool io;  // an io_context per ingest thread, and one for the control plane
   DaemonMetrics metrics;
 
   // Held for a whole evaluation pass and by Apply while it swaps listeners and models, so a reload
@@ -380,7 +382,8 @@ void Daemon::Impl::ReplaceWebhook(const std::optional<WebhookConfig>& next) {
                  next->retries == webhook_config->retries));
   if (same) return;
   if (webhook) webhook->Stop();
-  webhook = next ? std::make_unique<WebhookSink>(io, WebhookOptions::FromConfig(*next)) : nullptr;
+  webhook = next ? std::make_unique<WebhookSink>(io.control(), WebhookOptions::FromConfig(*next))
+                 : nullptr;
   webhook_config = next;
 }
 
@@ -464,7 +467,7 @@ int Daemon::Run() {
   HttpServerOptions http_options;
   http_options.host = d.config.http.host;
   http_options.port = d.config.http.port;
-  d.http = std::make_unique<HttpServer>(d.io, BuildRouter(*this), http_options);
+  d.http = std::make_unique<HttpServer>(d.io.control(), BuildRouter(*this), http_options);
   if (auto started = d.http->Start(); !started.ok()) {
     spdlog::error("{}", started.error().message);
     return 2;
@@ -472,7 +475,7 @@ int Daemon::Run() {
   spdlog::info("serving http on {}:{}", d.config.http.host, d.http->bound_port());
 
   std::promise<int> stop_signal;
-  asio::signal_set signals(d.io, SIGTERM, SIGINT, SIGHUP);
+  asio::signal_set signals(d.io.control(), SIGTERM, SIGINT, SIGHUP);
   std::function<void(const boost::system::error_code&, int)> on_signal =
       [&](const boost::system::error_code& ec, int number) {
         if (ec) return;
@@ -487,11 +490,7 @@ int Daemon::Run() {
       };
   signals.async_wait(on_signal);
 
-  auto work = asio::make_work_guard(d.io);
-  std::vector<std::thread> threads;
-  for (int i = 0; i < std::max(1, d.options.io_threads); ++i) {
-    threads.emplace_back([&d] { d.io.run(); });
-  }
+  d.io.Start();
   d.evaluation =
       std::make_unique<EvaluationLoop>(d.config.evaluate_every, [&d] { d.EvaluateAll(); });
   d.evaluation->Start();
@@ -544,8 +543,7 @@ int Daemon::Run() {
   d.http->Stop();
   d.http->WaitStopped(std::chrono::steady_clock::now() + std::chrono::seconds(2));
   signals.cancel();
-  work.reset();
-  for (auto& t : threads) t.join();
+  d.io.Stop();
   spdlog::info("stopped");
   return 0;
 }

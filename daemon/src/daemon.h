@@ -1,6 +1,7 @@
-// Daemon: codedriftd's lifecycle — builds streams and models from a config, runs socket and
-// HTTP io threads plus one evaluation thread, reloads on SIGHUP or POST /api/v1/reload, and
-// stops in order on SIGTERM/SIGINT (stop accepting, drain, final evaluation, exit 0).
+// Daemon: codedriftd's lifecycle — builds streams and models from a config, runs its ingest
+// threads, one control thread (HTTP, signals, webhook) and one evaluation thread, reloads on
+// SIGHUP or POST /api/v1/reload, and stops in order on SIGTERM/SIGINT (stop accepting, drain,
+// final evaluation, exit 0).
 #pragma once
 
 #include <condition_variable>
@@ -15,6 +16,7 @@
 #include "codedrift/clock.h"
 #include "codedrift/daemon_config.h"
 #include "codedrift/result.h"
+
 #include "model_runtime.h"
 
 namespace codedrift {
@@ -24,7 +26,7 @@ struct HttpRequest;
 struct DaemonOptions {
   std::string config_path;  // empty: the embedded default config
   std::string ready_file;   // written once every socket is bound: ports as JSON
-  int io_threads = 2;
+  int io_threads = 2;       // ingest threads; the control and evaluation threads come on top
 };
 
 // Not copyable. Run() blocks until a stop signal; all other public methods are thread-safe.

@@ -14,6 +14,8 @@
 
 namespace codedrift {
 
+class IoPool;
+
 // What every implementation needs; immutable after construction, shared by its connections.
 struct ListenerContext {
   StreamConfig config;
@@ -35,10 +37,11 @@ class ListenerCore {
   virtual bool WaitStopped(std::chrono::steady_clock::time_point deadline) = 0;
 };
 
-// tcp:// and unix:// (stream_listener.cc).
+// tcp:// and unix:// (socket_listener.cc): accepts on one ingest context of the pool and
+// places each connection on the next one.
 std::shared_ptr<ListenerCore> MakeStreamSocketListener(
-    boost::asio::io_context& io, std::shared_ptr<const ListenerContext> context);
-// udp:// (datagram_listener.cc).
+    IoPool& pool, std::shared_ptr<const ListenerContext> context);
+// udp:// (datagram_listener.cc): the socket and its bursts stay on `io`.
 std::shared_ptr<ListenerCore> MakeDatagramListener(boost::asio::io_context& io,
                                                    std::shared_ptr<const ListenerContext> context);
 

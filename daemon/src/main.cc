@@ -30,7 +30,9 @@ int main(int argc, char** argv) {
   app.add_flag("--check-config", check_only, "validate the config and its tables, then exit");
   app.add_option("--ready-file", options.ready_file,
                  "write the bound ports as JSON to this file once serving");
-  app.add_option("--io-threads", options.io_threads, "socket threads")->check(CLI::Range(1, 64));
+  app.add_option("--io-threads", options.io_threads,
+                 "ingest threads (HTTP and evaluation have their own)")
+      ->check(CLI::Range(1, 64));
   app.add_flag("-v,--verbose", verbose, "log debug events too");
   app.set_version_flag("--version", std::string("codedriftd ") + CODEDRIFT_VERSION);
   try {

@@ -18,6 +18,7 @@
 #include <boost/asio/strand.hpp>
 
 #include "connection_framer.h"
+#include "io_pool.h"
 #include "listener_core.h"
 #include <sys/stat.h>
 
@@ -37,7 +38,8 @@ constexpr auto kAcceptRetryDelay = std::chrono::milliseconds(100);
 template <class Protocol>
 class SocketListener;
 
-// One accepted connection. Lives on its own strand; keeps its listener's state alive.
+// One accepted connection. Lives on one io_context of the pool, run by one thread, so its
+// handlers never run concurrently; keeps its listener's state alive.
 template <class Protocol>
 class Connection : public std::enable_shared_from_this<Connection<Protocol>> {
  public:
@@ -157,10 +159,11 @@ class SocketListener : public ListenerCore,
   using Socket = typename Protocol::socket;
   static constexpr bool kIsTcp = std::is_same_v<Protocol, tcp>;
 
-  SocketListener(asio::io_context& io, std::shared_ptr<const ListenerContext> context)
-      : io_(io),
+  SocketListener(IoPool& pool, std::shared_ptr<const ListenerContext> context)
+      : pool_(pool),
+        io_(pool.Next()),
         context_(std::move(context)),
-        acceptor_(asio::make_strand(io)),
+        acceptor_(asio::make_strand(io_)),
         retry_timer_(acceptor_.get_executor()) {}
 
   const ListenerContext& context() const { return *context_; }
@@ -284,7 +287,7 @@ class SocketListener : public ListenerCore,
   }
 
   void Accept() {
-    acceptor_.async_accept(asio::make_strand(io_),
+    acceptor_.async_accept(pool_.Next(),
                            [self = this->shared_from_this()](error_code ec, Socket socket) {
                              self->OnAccept(ec, std::move(socket));
                            });
@@ -351,7 +354,8 @@ class SocketListener : public ListenerCore,
     changed_.notify_all();
   }
 
-  asio::io_context& io_;
+  IoPool& pool_;
+  asio::io_context& io_;  // the acceptor's context
   const std::shared_ptr<const ListenerContext> context_;
   typename Protocol::acceptor acceptor_;  // on its strand after Start
   asio::steady_timer retry_timer_;        // same strand
@@ -369,11 +373,11 @@ class SocketListener : public ListenerCore,
 }  // namespace
 
 std::shared_ptr<ListenerCore> MakeStreamSocketListener(
-    asio::io_context& io, std::shared_ptr<const ListenerContext> context) {
+    IoPool& pool, std::shared_ptr<const ListenerContext> context) {
   if (context->config.listen.scheme == ListenScheme::kUnix) {
-    return std::make_shared<SocketListener<UnixStream>>(io, std::move(context));
+    return std::make_shared<SocketListener<UnixStream>>(pool, std::move(context));
   }
-  return std::make_shared<SocketListener<tcp>>(io, std::move(context));
+  return std::make_shared<SocketListener<tcp>>(pool, std::move(context));
 }
 
 }  // namespace codedrift

@@ -3,11 +3,12 @@
 #include <iostream>
 #include <utility>
 
+#include "io_pool.h"
 #include "listener_core.h"
 
 namespace codedrift {
 
-StreamListener::StreamListener(boost::asio::io_context& io, const StreamConfig& config,
+StreamListener::StreamListener(IoPool& pool, const StreamConfig& config,
                                std::shared_ptr<StreamCounters> counters, RecordHandler handler,
                                ListenerLog log, RunHandler run_handler) {
   auto context = std::make_shared<ListenerContext>();
@@ -17,9 +18,9 @@ StreamListener::StreamListener(boost::asio::io_context& io, const StreamConfig& 
   context->counters = std::move(counters);
   context->log = log ? std::move(log) : [](std::string_view line) { std::clog << line << '\n'; };
   if (config.listen.scheme == ListenScheme::kUdp) {
-    core_ = MakeDatagramListener(io, std::move(context));
+    core_ = MakeDatagramListener(pool.Next(), std::move(context));
   } else {
-    core_ = MakeStreamSocketListener(io, std::move(context));
+    core_ = MakeStreamSocketListener(pool, std::move(context));
   }
 }
 

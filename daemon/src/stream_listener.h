@@ -15,11 +15,9 @@
 
 #include "stream_counters.h"
 
-namespace boost::asio {
-class io_context;
-}  // namespace boost::asio
-
 namespace codedrift {
+
+class IoPool;
 
 // Receives every record of the stream (for `lines`, the terminating newline included). The view
 // is valid during the call only. Called from io threads, possibly from several at once.
@@ -44,16 +42,16 @@ class ListenerCore;  // the per-scheme implementation (stream_listener.cc, datag
 //   ends inside a frame             records_rejected{truncated_frame}
 //   datagram over max_record_bytes  records_rejected{oversized_datagram}, dropped
 // Reads go into a 64 KiB buffer per connection; everything is asynchronous, so a slow or
-// stuck client never holds up another. Runs on the caller's io_context (any number of
-// threads); Start, Stop and WaitStopped are thread-safe. Connections keep the shared state
-// alive, so the listener may be destroyed while the io_context still runs (it stops first);
-// destroy it before the io_context.
+// stuck client never holds up another. The acceptor, each connection and a udp socket go to
+// the pool's ingest contexts in turn; Start, Stop and WaitStopped are
+// thread-safe. Connections keep the shared state alive, so the listener may be destroyed while
+// the pool still runs (it stops first); destroy it before the pool.
 class StreamListener {
  public:
   // `counters` must not be null; the config is copied. Without `log`, lines go to std::clog.
-  StreamListener(boost::asio::io_context& io, const StreamConfig& config,
-                 std::shared_ptr<StreamCounters> counters, RecordHandler handler,
-                 ListenerLog log = nullptr, RunHandler run_handler = nullptr);
+  StreamListener(IoPool& pool, const StreamConfig& config, std::shared_ptr<StreamCounters> counters,
+                 RecordHandler handler, ListenerLog log = nullptr,
+                 RunHandler run_handler = nullptr);
   ~StreamListener();
   StreamListener(const StreamListener&) = delete;
   StreamListener& operator=(const StreamListener&) = delete;

@@ -4,15 +4,16 @@
 #include <chrono>
 #include <condition_variable>
 #include <filesystem>
+#include <map>
 #include <mutex>
+#include <set>
 #include <string>
 #include <thread>
 #include <vector>
 
-#include <boost/asio/executor_work_guard.hpp>
-#include <boost/asio/io_context.hpp>
 #include <gtest/gtest.h>
 
+#include "io_pool.h"
 #include "loopback_client.h"
 #include "stream_listener.h"
 #include <sys/socket.h>
@@ -37,26 +38,24 @@ StreamConfig Config(ListenScheme scheme, Framing framing) {
 
 class ListenerTest : public ::testing::Test {
  protected:
-  void SetUp() override {
-    thread_ = std::thread([this] { io_.run(); });
-  }
+  void SetUp() override { pool_.Start(); }
 
   void TearDown() override {
     if (listener_) {
       listener_->Stop(milliseconds(0));
       EXPECT_TRUE(listener_->WaitStopped(std::chrono::steady_clock::now() + kTimeout));
     }
-    guard_.reset();
-    thread_.join();
+    pool_.Stop();
     listener_.reset();
   }
 
   void Start(const StreamConfig& config) {
     listener_ = std::make_unique<StreamListener>(
-        io_, config, counters_,
+        pool_, config, counters_,
         [this](std::string_view record) {
           std::lock_guard<std::mutex> lock(mu_);
           records_.emplace_back(record);
+          record_threads_.push_back(std::this_thread::get_id());
           changed_.notify_all();
         },
         [this](std::string_view line) {
@@ -89,16 +88,14 @@ class ListenerTest : public ::testing::Test {
   uint64_t RecordsTotal() const { return counters_->records_total.load(); }
   uint64_t BytesTotal() const { return counters_->bytes_total.load(); }
 
-  boost::asio::io_context io_;
-  boost::asio::executor_work_guard<boost::asio::io_context::executor_type> guard_{
-      io_.get_executor()};
-  std::thread thread_;
+  IoPool pool_{2};  // the daemon's default --io-threads
   std::shared_ptr<StreamCounters> counters_ = std::make_shared<StreamCounters>();
   std::unique_ptr<StreamListener> listener_;
 
   std::mutex mu_;
   std::condition_variable changed_;
   std::vector<std::string> records_;
+  std::vector<std::thread::id> record_threads_;  // the thread that delivered each record
   std::vector<std::string> log_;
 };
 
@@ -195,7 +192,7 @@ TEST_F(ListenerTest, UnixSocketFileOfADeadProcessIsReplaced) {
 
   // A second listener on the same live path is refused.
   StreamListener second(
-      io_, config, std::make_shared<StreamCounters>(), [](std::string_view) {},
+      pool_, config, std::make_shared<StreamCounters>(), [](std::string_view) {},
       [](std::string_view) {});
   const Status status = second.Start();
   ASSERT_FALSE(status.ok());
@@ -380,12 +377,42 @@ TEST_F(ListenerTest, SlowClientDoesNotHoldUpOthers) {
   EXPECT_EQ(WaitRecords(2), (Strings{"one\n", "two\n"}));
 }
 
+// Each connection is placed on one io thread and stays there (no cache-cold hops between
+// cores); the connections are spread over both threads of the pool.
+TEST_F(ListenerTest, ConnectionsAreSpreadOverIoThreadsAndStayOnOne) {
+  Start(Config(ListenScheme::kTcp, Framing::kLines));
+  constexpr int kClients = 4;
+  constexpr int kRounds = 20;
+  std::vector<Client> clients;
+  for (int i = 0; i < kClients; ++i) clients.push_back(ConnectTcp(listener_->bound_port()));
+  size_t sent = 0;
+  for (int round = 0; round < kRounds; ++round) {
+    for (int i = 0; i < kClients; ++i) {
+      clients[i].Send(std::to_string(i) + "\n");
+      WaitRecords(++sent);  // one read per send, so one handler run per record
+    }
+  }
+  std::lock_guard<std::mutex> lock(mu_);
+  ASSERT_EQ(records_.size(), sent);
+  std::map<std::string, std::set<std::thread::id>> threads_by_client;
+  std::set<std::thread::id> all_threads;
+  for (size_t r = 0; r < records_.size(); ++r) {
+    threads_by_client[records_[r]].insert(record_threads_[r]);
+    all_threads.insert(record_threads_[r]);
+  }
+  ASSERT_EQ(threads_by_client.size(), static_cast<size_t>(kClients));
+  for (const auto& [client, threads] : threads_by_client) {
+    EXPECT_EQ(threads.size(), 1u) << "connection " << client << " ran on several threads";
+  }
+  EXPECT_EQ(all_threads.size(), pool_.ingest_size());
+}
+
 TEST_F(ListenerTest, BusyTcpPortIsAnErrorValue) {
   Start(Config(ListenScheme::kTcp, Framing::kLines));
   StreamConfig config = Config(ListenScheme::kTcp, Framing::kLines);
   config.listen.port = listener_->bound_port();
   StreamListener second(
-      io_, config, std::make_shared<StreamCounters>(), [](std::string_view) {},
+      pool_, config, std::make_shared<StreamCounters>(), [](std::string_view) {},
       [](std::string_view) {});
   const Status status = second.Start();
   ASSERT_FALSE(status.ok());
