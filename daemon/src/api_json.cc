@@ -76,24 +76,24 @@ nlohmann::json ModelJson(const ModelView& view, bool with_history) {
     out["unknown_symbols_per_second"] = e.unknown_per_second;
     out["symbols_per_second"] = e.symbols_per_second;
     out["records_per_second"] = e.records_per_second;
-    out["top_drift"] = alphabet.ok() ? TopDriftJson(alphabet.value(), e.top_drift)
-                                     : nlohmann::json::array();
+    out["top_drift"] =
+        alphabet.ok() ? TopDriftJson(alphabet.value(), e.top_drift) : nlohmann::json::array();
     out["warnings"] = e.warnings;
   } else {
     out["window_symbols"] = 0;
     out["warnings"] = {"no evaluation yet"};
   }
-  out["proposal"] = view.latest_proposal
-                        ? nlohmann::json("/api/v1/models/" + view.stream + "/" + view.name +
-                                         "/proposal")
-                        : nlohmann::json(nullptr);
-  out["alert"] = {{"saving_ratio", view.alert.saving},
-                  {"for_seconds", std::chrono::duration<double>(view.alert.for_duration).count()},
-                  {"min_symbols", view.alert.min_symbols},
-                  {"confidence", view.alert.confidence},
-                  {"cooldown_seconds", std::chrono::duration<double>(view.alert.cooldown).count()},
-                  {"max_payback_seconds",
-                   std::chrono::duration<double>(view.alert.max_payback).count()}};
+  out["proposal"] =
+      view.latest_proposal
+          ? nlohmann::json("/api/v1/models/" + view.stream + "/" + view.name + "/proposal")
+          : nlohmann::json(nullptr);
+  out["alert"] = {
+      {"saving_ratio", view.alert.saving},
+      {"for_seconds", std::chrono::duration<double>(view.alert.for_duration).count()},
+      {"min_symbols", view.alert.min_symbols},
+      {"confidence", view.alert.confidence},
+      {"cooldown_seconds", std::chrono::duration<double>(view.alert.cooldown).count()},
+      {"max_payback_seconds", std::chrono::duration<double>(view.alert.max_payback).count()}};
   if (with_history) out["history"] = HistoryJson(view.history);
   return out;
 }

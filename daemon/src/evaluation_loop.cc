@@ -7,7 +7,9 @@ EvaluationLoop::EvaluationLoop(std::chrono::milliseconds interval, std::function
 
 EvaluationLoop::~EvaluationLoop() { Stop(); }
 
-void EvaluationLoop::Start() { thread_ = std::thread([this] { Run(); }); }
+void EvaluationLoop::Start() {
+  thread_ = std::thread([this] { Run(); });
+}
 
 void EvaluationLoop::Post(std::function<void()> task) {
   {

@@ -213,8 +213,8 @@ std::string DaemonMetrics::RenderMetrics() const {
   for (const ProcessSample& sample : *process) {
     std::vector<ClientMetric::Label> labels;
     for (const auto& [name, value] : sample.labels) labels.push_back({name, value});
-    builder.Sample(sample.name, sample.help, sample.counter ? kCounter : kGauge,
-                   std::move(labels), sample.value);
+    builder.Sample(sample.name, sample.help, sample.counter ? kCounter : kGauge, std::move(labels),
+                   sample.value);
   }
   for (const StreamCountersEntry& entry : *streams) {
     if (entry.counters) AddStream(builder, entry);

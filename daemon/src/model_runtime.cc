@@ -25,8 +25,7 @@ History MakeHistory(std::chrono::milliseconds evaluate_every) {
 }
 
 double UnixNow() {
-  return std::chrono::duration<double>(std::chrono::system_clock::now().time_since_epoch())
-      .count();
+  return std::chrono::duration<double>(std::chrono::system_clock::now().time_since_epoch()).count();
 }
 
 std::string Figure(double value) {
@@ -185,9 +184,8 @@ Result<CodeTable> ModelRuntime::Retrain() const {
     deployed = table_;
     latest = latest_;
   }
-  const int literal_bits = deployed && deployed->escape
-                               ? deployed->escape->literal_bits
-                               : DefaultLiteralBits(counts->alphabet());
+  const int literal_bits = deployed && deployed->escape ? deployed->escape->literal_bits
+                                                        : DefaultLiteralBits(counts->alphabet());
   const int max_length =
       deployed && deployed->kind == CodeKind::kPrefix ? deployed->max_length : 15;
   auto table = TrainPrefixTable(*counts, max_length, literal_bits);

@@ -1,7 +1,5 @@
 #include "proposal_writer.h"
 
-#include <zlib.h>
-
 #include <algorithm>
 #include <chrono>
 #include <cstdio>
@@ -9,6 +7,8 @@
 #include <filesystem>
 #include <system_error>
 #include <vector>
+
+#include <zlib.h>
 
 namespace codedrift {
 namespace fs = std::filesystem;
@@ -19,8 +19,8 @@ std::string LengthsChecksum(const CodeTable& table) {
     text += table.alphabet.FormatKey(key) + " " + std::to_string(length) + "\n";
   }
   if (table.escape) text += "escape " + std::to_string(table.escape->length) + "\n";
-  const uLong crc = crc32(0L, reinterpret_cast<const Bytef*>(text.data()),
-                          static_cast<uInt>(text.size()));
+  const uLong crc =
+      crc32(0L, reinterpret_cast<const Bytef*>(text.data()), static_cast<uInt>(text.size()));
   char hex[16];
   std::snprintf(hex, sizeof hex, "%08lx", crc);
   return hex;

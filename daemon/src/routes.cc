@@ -18,8 +18,9 @@ HttpResponse JsonError(int status, const std::string& message) {
 }
 
 HttpResponse Unauthorized() {
-  HttpResponse response = JsonError(401, "this endpoint needs the admin token: "
-                                         "Authorization: Bearer <token>");
+  HttpResponse response = JsonError(401,
+                                    "this endpoint needs the admin token: "
+                                    "Authorization: Bearer <token>");
   response.headers.emplace_back("WWW-Authenticate", "Bearer");
   return response;
 }
@@ -34,9 +35,8 @@ std::shared_ptr<const HttpRouter> BuildRouter(Daemon& daemon) {
     response.body = daemon.RenderMetrics();
     return response;
   });
-  router->Add("GET", "/healthz", [](const HttpRequest&) {
-    return HttpResponse::Json(200, "{\"status\":\"ok\"}\n");
-  });
+  router->Add("GET", "/healthz",
+              [](const HttpRequest&) { return HttpResponse::Json(200, "{\"status\":\"ok\"}\n"); });
   router->Add("GET", "/", [](const HttpRequest&) {
     HttpResponse response;
     response.content_type = "text/html; charset=utf-8";
@@ -68,18 +68,17 @@ std::shared_ptr<const HttpRouter> BuildRouter(Daemon& daemon) {
                 response.body = text.str();
                 return response;
               });
-  router->Add("POST", "/api/v1/models/{stream}/{model}/proposal",
-              [&daemon](const HttpRequest& request) {
-                if (!daemon.Authorized(request)) return Unauthorized();
-                if (!daemon.View(request.params.at("stream"), request.params.at("model"))) {
-                  return JsonError(404, "no such model");
-                }
-                auto written = daemon.WriteProposalNow(request.params.at("stream"),
-                                                       request.params.at("model"));
-                if (!written.ok()) return JsonError(503, written.error().message);
-                return HttpResponse::Json(
-                    200, nlohmann::json{{"proposal", written.value()}}.dump() + "\n");
-              });
+  router->Add(
+      "POST", "/api/v1/models/{stream}/{model}/proposal", [&daemon](const HttpRequest& request) {
+        if (!daemon.Authorized(request)) return Unauthorized();
+        if (!daemon.View(request.params.at("stream"), request.params.at("model"))) {
+          return JsonError(404, "no such model");
+        }
+        auto written =
+            daemon.WriteProposalNow(request.params.at("stream"), request.params.at("model"));
+        if (!written.ok()) return JsonError(503, written.error().message);
+        return HttpResponse::Json(200, nlohmann::json{{"proposal", written.value()}}.dump() + "\n");
+      });
   router->Add("POST", "/api/v1/reload", [&daemon](const HttpRequest& request) {
     if (!daemon.Authorized(request)) return Unauthorized();
     auto reloaded = daemon.Reload();

@@ -23,8 +23,8 @@ class RingWindow final : public Window {
   WindowCounts Count(int batch_count, SymbolId id_limit) const override {
     WindowCounts out;
     out.symbols = size_;
-    const uint64_t batches = std::clamp<uint64_t>(static_cast<uint64_t>(batch_count), 1,
-                                                  std::max<uint64_t>(size_, 1));
+    const uint64_t batches =
+        std::clamp<uint64_t>(static_cast<uint64_t>(batch_count), 1, std::max<uint64_t>(size_, 1));
     const uint64_t capacity = ring_.size();
     const uint64_t oldest = (head_ + capacity - size_) % capacity;
     for (uint64_t b = 0; b < batches; ++b) {

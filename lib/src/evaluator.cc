@@ -141,10 +141,10 @@ Evaluation ModelEvaluator::Evaluate(const ModelSample& sample, const CodeTable* 
 
     const uint64_t older_n = Total(older);
     const uint64_t newer_n = Total(newer);
-    const int literal_bits = table->escape ? table->escape->literal_bits
-                                           : DefaultLiteralBits(alphabet);
-    const int max_length = table->kind == CodeKind::kPrefix ? table->max_length
-                                                            : options_.max_length;
+    const int literal_bits =
+        table->escape ? table->escape->literal_bits : DefaultLiteralBits(alphabet);
+    const int max_length =
+        table->kind == CodeKind::kPrefix ? table->max_length : options_.max_length;
     if (older_n > 0 && newer_n > 0) {
       auto retrained =
           TrainPrefixTable(ToSymbolCounts(alphabet, sample.keys, older), max_length, literal_bits);

@@ -112,8 +112,8 @@ class BucketWindow final : public Window {
   // Clears the buckets that fell out of the span since the last push.
   void Rotate(int64_t now_index) {
     if (now_index <= current_) return;
-    const int64_t steps = std::min<int64_t>(now_index - current_,
-                                            static_cast<int64_t>(buckets_.size()));
+    const int64_t steps =
+        std::min<int64_t>(now_index - current_, static_cast<int64_t>(buckets_.size()));
     for (int64_t i = 1; i <= steps; ++i) {
       const size_t slot = Slot(current_ + i);
       std::fill(buckets_[slot].begin(), buckets_[slot].end(), 0);

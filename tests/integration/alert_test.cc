@@ -1,13 +1,13 @@
 // Alerts end to end: the real daemon watching synthesized orchard traffic goes fit -> drifting
 // -> stale after a firmware rollout, delivers exactly one webhook to a real receiver, and
 // writes a proposal that keeps its promise on fresh traffic; stationary traffic never alerts.
-#include <gtest/gtest.h>
-
 #include <atomic>
 #include <cmath>
 #include <csignal>
 #include <filesystem>
 #include <thread>
+
+#include <gtest/gtest.h>
 
 #include "../unit/webhook_receiver.h"
 #include "harness.h"
@@ -15,12 +15,12 @@
 namespace codedrift::testing {
 namespace {
 
-const std::string kScenario = std::string(CODEDRIFT_SOURCE_DIR) +
-                              "/config/scenarios/orchard-probes.yaml";
+const std::string kScenario =
+    std::string(CODEDRIFT_SOURCE_DIR) + "/config/scenarios/orchard-probes.yaml";
 
 std::string Synth(const std::string& phase, int seed) {
-  const auto out = RunCommand(CliPath() + " synth " + kScenario + " --phase " + phase +
-                              " --seed " + std::to_string(seed));
+  const auto out = RunCommand(CliPath() + " synth " + kScenario + " --phase " + phase + " --seed " +
+                              std::to_string(seed));
   EXPECT_EQ(out.exit_code, 0);
   return out.out;
 }
@@ -37,11 +37,13 @@ std::string Config(uint16_t webhook_port, const std::string& alert) {
          "        symbols: {kind: bytes}\n"
          "        window: {symbols: 400000}\n"
          "        table: deployed.table\n"
-         "        alert: " + alert + "\n"
+         "        alert: " +
+         alert +
+         "\n"
          "alerts:\n"
          "  log: true\n"
-         "  webhook: {url: \"http://127.0.0.1:" + std::to_string(webhook_port) +
-         "/hook\", timeout: 2s, retries: 3}\n";
+         "  webhook: {url: \"http://127.0.0.1:" +
+         std::to_string(webhook_port) + "/hook\", timeout: 2s, retries: 3}\n";
 }
 
 void TrainDeployedTable(const TempDir& dir) {
@@ -124,20 +126,22 @@ TEST(Alerts, FirmwareRolloutGoesStaleOnceWithAProposalThatKeepsItsPromise) {
 
   // The proposal validates and, on fresh traffic of the new regime, saves at least the lower
   // bound the alert promised.
-  const HttpReply proposal = HttpCall(daemon.http_port(), "GET",
-                                      "/api/v1/models/radio/bytes/proposal");
+  const HttpReply proposal =
+      HttpCall(daemon.http_port(), "GET", "/api/v1/models/radio/bytes/proposal");
   ASSERT_EQ(proposal.status, 200);
   EXPECT_NE(proposal.body.find(notice["proposal"]["checksum"].get<std::string>()),
             std::string::npos);
   dir.Write("proposal.table", proposal.body);
   EXPECT_EQ(RunCommand(CliPath() + " check " + dir.File("proposal.table")).exit_code, 0);
   dir.Write("fresh.log", Synth("probe-firmware-3", 4));
-  const auto with_proposal = nlohmann::json::parse(
-      RunCommand(CliPath() + " inspect --json --table " + dir.File("proposal.table") + " " +
-                 dir.File("fresh.log")).out);
-  const auto with_deployed = nlohmann::json::parse(
-      RunCommand(CliPath() + " inspect --json --table " + dir.File("deployed.table") + " " +
-                 dir.File("fresh.log")).out);
+  const auto with_proposal =
+      nlohmann::json::parse(RunCommand(CliPath() + " inspect --json --table " +
+                                       dir.File("proposal.table") + " " + dir.File("fresh.log"))
+                                .out);
+  const auto with_deployed =
+      nlohmann::json::parse(RunCommand(CliPath() + " inspect --json --table " +
+                                       dir.File("deployed.table") + " " + dir.File("fresh.log"))
+                                .out);
   const double saving = 1.0 - with_proposal["deployed_mean_bits"].get<double>() /
                                   with_deployed["deployed_mean_bits"].get<double>();
   EXPECT_GE(saving, promised_lower) << "promised " << promised_lower;
@@ -174,13 +178,12 @@ TEST(Alerts, UnwritableStateDirIsCountedAndRetried) {
   std::thread sender([&] {
     while (!stop) SendTcp(port, shifted.substr(0, 200000));
   });
-  const bool failed = WaitFor(
-      [&] { return daemon.Metric("codedrift_proposal_failures_total").value_or(0) >= 2.0; },
-      std::chrono::seconds(60));
+  const bool failed =
+      WaitFor([&] { return daemon.Metric("codedrift_proposal_failures_total").value_or(0) >= 2.0; },
+              std::chrono::seconds(60));
   ASSERT_TRUE(failed) << daemon.Log();
   EXPECT_NE(daemon.Log().find("proposal not written"), std::string::npos);
-  EXPECT_EQ(HttpCall(daemon.http_port(), "GET", "/api/v1/models/radio/bytes/proposal").status,
-            404);
+  EXPECT_EQ(HttpCall(daemon.http_port(), "GET", "/api/v1/models/radio/bytes/proposal").status, 404);
   ASSERT_TRUE(receiver.WaitForRequests(1));
   EXPECT_TRUE(nlohmann::json::parse(receiver.received()[0].body)["proposal"].is_null());
 
@@ -188,8 +191,7 @@ TEST(Alerts, UnwritableStateDirIsCountedAndRetried) {
   std::filesystem::remove(dir.File("blocker"));
   std::filesystem::create_directory(dir.File("blocker"));
   const bool written = WaitFor([&] {
-    return HttpCall(daemon.http_port(), "GET", "/api/v1/models/radio/bytes/proposal").status ==
-           200;
+    return HttpCall(daemon.http_port(), "GET", "/api/v1/models/radio/bytes/proposal").status == 200;
   });
   stop = true;
   sender.join();

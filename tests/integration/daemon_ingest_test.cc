@@ -1,10 +1,10 @@
 // The real daemon over real loopback sockets: every framing delivers exact records, and the
 // figures it serves equal what `codedrift inspect` computes on the same last-N symbols.
-#include <gtest/gtest.h>
-
 #include <cmath>
 #include <random>
 #include <thread>
+
+#include <gtest/gtest.h>
 
 #include "harness.h"
 
@@ -19,7 +19,9 @@ std::string Config(const std::string& streams) {
          streams;
 }
 
-bool NearlyEqual(double a, double b) { return std::abs(a - b) <= 1e-9 * std::max(1.0, std::abs(b)); }
+bool NearlyEqual(double a, double b) {
+  return std::abs(a - b) <= 1e-9 * std::max(1.0, std::abs(b));
+}
 
 TEST(DaemonIngest, TcpLinesFiguresEqualInspectOnTheLastNSymbols) {
   TempDir dir;
@@ -47,7 +49,8 @@ TEST(DaemonIngest, TcpLinesFiguresEqualInspectOnTheLastNSymbols) {
   ASSERT_TRUE(WaitFor([&] {
     model = daemon.ModelJson("uplink", "bytes");
     return model.is_object() && model.value("symbols_total", 0u) == capture.size();
-  })) << model.dump() << daemon.Log();
+  })) << model.dump()
+      << daemon.Log();
   EXPECT_EQ(daemon.Metric("codedrift_records_total", {"stream=\"uplink\""}), 3000.0);
   EXPECT_EQ(daemon.Metric("codedrift_bytes_total", {"stream=\"uplink\""}),
             static_cast<double>(capture.size()));
@@ -83,7 +86,8 @@ TEST(DaemonIngest, TcpLinesFiguresEqualInspectOnTheLastNSymbols) {
 std::string Frames(const std::vector<std::string>& records, int prefix_bytes) {
   std::string out;
   for (const auto& r : records) {
-    for (int i = prefix_bytes - 1; i >= 0; --i) out += static_cast<char>((r.size() >> (8 * i)) & 0xff);
+    for (int i = prefix_bytes - 1; i >= 0; --i)
+      out += static_cast<char>((r.size() >> (8 * i)) & 0xff);
     out += r;
   }
   return out;
@@ -104,7 +108,8 @@ TEST(DaemonIngest, LengthPrefixedUdpAndUnixStreamsCountExactly) {
     listen: udp://127.0.0.1:0
     models: [{name: bytes, symbols: {kind: bytes}, window: {symbols: 100000}}]
   - name: local
-    listen: unix://)" + socket_path + R"(
+    listen: unix://)" + socket_path +
+                                   R"(
     framing: lines
     models: [{name: tokens, symbols: {kind: tokens}, window: {symbols: 100000}}]
 )"));
@@ -129,12 +134,12 @@ TEST(DaemonIngest, LengthPrefixedUdpAndUnixStreamsCountExactly) {
     EXPECT_TRUE(WaitFor([&] {
       return daemon.Metric("codedrift_symbols_total", {"stream=\"" + stream + "\""}) ==
              static_cast<double>(payload);
-    })) << stream << daemon.Log();
+    })) << stream
+        << daemon.Log();
     EXPECT_EQ(daemon.Metric("codedrift_records_total", {"stream=\"" + stream + "\""}), 500.0);
   }
-  EXPECT_TRUE(WaitFor([&] {
-    return daemon.Metric("codedrift_records_total", {"stream=\"packets\""}) == 100.0;
-  }));
+  EXPECT_TRUE(WaitFor(
+      [&] { return daemon.Metric("codedrift_records_total", {"stream=\"packets\""}) == 100.0; }));
   // Tokens: temp 14 ok <end> temp 15 ok <end>.
   EXPECT_TRUE(WaitFor([&] {
     return daemon.Metric("codedrift_symbols_total", {"stream=\"local\""}) == 8.0;

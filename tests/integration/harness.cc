@@ -1,14 +1,5 @@
 #include "harness.h"
 
-#include <arpa/inet.h>
-#include <fcntl.h>
-#include <netinet/in.h>
-#include <signal.h>
-#include <sys/socket.h>
-#include <sys/un.h>
-#include <sys/wait.h>
-#include <unistd.h>
-
 #include <cstdio>
 #include <cstdlib>
 #include <cstring>
@@ -18,6 +9,15 @@
 #include <sstream>
 #include <stdexcept>
 #include <thread>
+
+#include <arpa/inet.h>
+#include <fcntl.h>
+#include <netinet/in.h>
+#include <signal.h>
+#include <sys/socket.h>
+#include <sys/un.h>
+#include <sys/wait.h>
+#include <unistd.h>
 
 namespace codedrift::testing {
 namespace fs = std::filesystem;
@@ -180,9 +180,7 @@ std::string ProbeLines(uint64_t seed, int count) {
 
 DaemonProcess::DaemonProcess(const TempDir& dir, const std::string& config_yaml,
                              const std::vector<std::string>& extra_args)
-    : dir_(dir.path()),
-      ready_file_(dir.File("ready.json")),
-      log_file_(dir.File("daemon.log")) {
+    : dir_(dir.path()), ready_file_(dir.File("ready.json")), log_file_(dir.File("daemon.log")) {
   dir.Write("codedrift.yaml", config_yaml);
   std::error_code ec;
   fs::remove(ready_file_, ec);
@@ -242,8 +240,7 @@ int DaemonProcess::Stop(int signal_number, std::chrono::milliseconds timeout) {
 
 std::string DaemonProcess::Log() const { return ReadFile(log_file_); }
 
-nlohmann::json DaemonProcess::ModelJson(const std::string& stream,
-                                        const std::string& model) const {
+nlohmann::json DaemonProcess::ModelJson(const std::string& stream, const std::string& model) const {
   const HttpReply reply = HttpCall(http_port_, "GET", "/api/v1/models/" + stream + "/" + model);
   if (reply.status != 200) return nullptr;
   return nlohmann::json::parse(reply.body, nullptr, false);

@@ -2,8 +2,6 @@
 // talks to it over real sockets, and stops it by PID.
 #pragma once
 
-#include <sys/types.h>
-
 #include <chrono>
 #include <cstdint>
 #include <functional>
@@ -12,6 +10,8 @@
 #include <vector>
 
 #include <nlohmann/json.hpp>
+
+#include <sys/types.h>
 
 namespace codedrift::testing {
 

@@ -40,16 +40,16 @@ struct Step {
 // Each row feeds one evaluation and checks the state after it.
 TEST(CodeStateMachine, TransitionsFollowTheRule) {
   const std::vector<Step> steps = {
-      {0, 0.02, 0.01, CodeState::kFit, false},         // under threshold
-      {1, 0.08, 0.06, CodeState::kDrifting, false},    // holds: drifting
-      {5, 0.08, 0.045, CodeState::kDrifting, false},   // above release level (4%): still held
-      {11, 0.08, 0.06, CodeState::kStale, true},       // held for 10 min: stale, alert
-      {12, 0.02, 0.01, CodeState::kFit, false},        // released
+      {0, 0.02, 0.01, CodeState::kFit, false},        // under threshold
+      {1, 0.08, 0.06, CodeState::kDrifting, false},   // holds: drifting
+      {5, 0.08, 0.045, CodeState::kDrifting, false},  // above release level (4%): still held
+      {11, 0.08, 0.06, CodeState::kStale, true},      // held for 10 min: stale, alert
+      {12, 0.02, 0.01, CodeState::kFit, false},       // released
       {13, 0.08, 0.06, CodeState::kDrifting, false},
-      {23, 0.08, 0.06, CodeState::kStale, false},      // within the 60 min cooldown: no alert
-      {24, 0.05, 0.035, CodeState::kFit, false},       // below release level
+      {23, 0.08, 0.06, CodeState::kStale, false},  // within the 60 min cooldown: no alert
+      {24, 0.05, 0.035, CodeState::kFit, false},   // below release level
       {80, 0.08, 0.06, CodeState::kDrifting, false},
-      {90, 0.08, 0.06, CodeState::kStale, true},       // cooldown over: alert again
+      {90, 0.08, 0.06, CodeState::kStale, true},  // cooldown over: alert again
   };
   CodeStateMachine machine(Rule());
   for (const Step& step : steps) {

@@ -1,8 +1,8 @@
 #include "codedrift/evaluator.h"
 
-#include <gtest/gtest.h>
-
 #include <random>
+
+#include <gtest/gtest.h>
 
 #include "codedrift/entropy.h"
 

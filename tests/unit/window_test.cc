@@ -1,8 +1,8 @@
 #include "codedrift/window.h"
 
-#include <gtest/gtest.h>
-
 #include <random>
+
+#include <gtest/gtest.h>
 
 namespace codedrift {
 namespace {

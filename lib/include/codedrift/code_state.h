@@ -16,7 +16,7 @@ enum class CodeState { kFit = 0, kDrifting = 1, kStale = 2 };
 const char* CodeStateName(CodeState state);
 
 struct CodeStateRule {
-  double saving = 0.05;                                  // threshold on the lower bound
+  double saving = 0.05;                                      // threshold on the lower bound
   std::chrono::nanoseconds hold = std::chrono::minutes(10);  // `for`
   uint64_t min_symbols = 100000;
   double confidence = 0.95;

@@ -34,15 +34,15 @@ struct Evaluation {
   std::optional<double> saving_lower_ratio;   // batch-means lower confidence bound
   std::optional<double> ideal_saving_ratio;   // 1 - H(newer) / L_dep(newer)
   std::optional<double> payback_seconds;
-  double kraft_sum = std::nan("");            // NaN: no table
+  double kraft_sum = std::nan("");  // NaN: no table
   uint64_t unknown_in_window = 0;
   uint64_t symbols_total = 0;
   uint64_t records_total = 0;
-  uint64_t unknown_symbols_total = 0;         // since start, under the table of the time
+  uint64_t unknown_symbols_total = 0;  // since start, under the table of the time
   double symbols_per_second = 0;
   double records_per_second = 0;
   double unknown_per_second = 0;
-  double table_bits = 0;                      // size of a retrained table as shipped
+  double table_bits = 0;  // size of a retrained table as shipped
   std::vector<DriftEntry> top_drift;
   std::vector<std::string> warnings;
 };

@@ -20,10 +20,10 @@ namespace codedrift {
 
 struct SymbolizerSpec {
   AlphabetKind kind = AlphabetKind::kBytes;
-  int block = 1;          // bytes
-  TokenOptions tokens;    // tokens
-  FieldOptions field;     // field
-  BytesOptions bytes;     // bytes: max_distinct of blocks of 3..4
+  int block = 1;        // bytes
+  TokenOptions tokens;  // tokens
+  FieldOptions field;   // field
+  BytesOptions bytes;   // bytes: max_distinct of blocks of 3..4
 
   Alphabet alphabet() const;
   bool operator==(const SymbolizerSpec& other) const;
@@ -35,11 +35,11 @@ std::unique_ptr<Symbolizer> MakeSymbolizer(const SymbolizerSpec& spec);
 struct ModelSample {
   Alphabet alphabet;
   std::unique_ptr<Window> window;
-  std::vector<SymbolKey> keys;         // id -> key, for every id handed out so far
-  std::vector<uint64_t> cumulative;    // symbols ever seen, by id
+  std::vector<SymbolKey> keys;       // id -> key, for every id handed out so far
+  std::vector<uint64_t> cumulative;  // symbols ever seen, by id
   uint64_t symbols_total = 0;
   uint64_t records_total = 0;
-  uint64_t skipped_records = 0;        // records the symbolizer could not use (field too short)
+  uint64_t skipped_records = 0;  // records the symbolizer could not use (field too short)
   std::chrono::nanoseconds taken_at{0};
 };
 

@@ -15,8 +15,8 @@
 namespace codedrift {
 
 struct WindowSpec {
-  uint64_t symbols = 0;                // count window: the last N symbols
-  std::chrono::nanoseconds span{0};    // time window: the last `span`, in `buckets` buckets
+  uint64_t symbols = 0;              // count window: the last N symbols
+  std::chrono::nanoseconds span{0};  // time window: the last `span`, in `buckets` buckets
   int buckets = 0;
 
   bool by_time() const { return span.count() > 0; }
