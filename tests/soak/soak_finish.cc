@@ -84,17 +84,20 @@ void SoakRun::Finish() {
   CheckAlerts(last);
 
   const RssJudgement rss = JudgeRss(samples_, options_.warmup);
+  const double hwm_mb = static_cast<double>(daemon_->PeakRssBytes()) / 1e6;
   if (rss.judged) {
-    verdict_.Check(rss.growth <= options_.rss_bound,
-                   Text("resident memory flat after the warm-up: median %.1f MB in the minute "
-                        "from %.0f s, %.1f MB in the last minute: %+.1f%% (bound %+.0f%%)",
-                        rss.reference_mb, rss.reference_at, rss.final_mb, rss.growth * 100,
-                        options_.rss_bound * 100));
+    verdict_.Check(
+        rss.growth <= options_.rss_bound,
+        Text("resident memory flat after the warm-up: median of the interval floors %.1f MB in "
+             "the minute from %.0f s, %.1f MB in the last minute: %+.1f%% (bound %+.0f%%); "
+             "highest read %.1f MB, VmHWM %.1f MB",
+             rss.reference_mb, rss.reference_at, rss.final_mb, rss.growth * 100,
+             options_.rss_bound * 100, rss.peak_mb, hwm_mb));
   } else {
     std::printf(
         "  %-6s resident memory: not judged, the run is too short for a %.0f s warm-up "
-        "and two separate minutes after it (peak %.1f MB)\n",
-        "-", options_.warmup, rss.peak_mb);
+        "and two separate minutes after it (highest read %.1f MB, VmHWM %.1f MB)\n",
+        "-", options_.warmup, rss.peak_mb, hwm_mb);
   }
 
   const int code = daemon_->Stop();

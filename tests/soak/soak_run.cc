@@ -142,6 +142,7 @@ void SoakRun::Loop() {
       next_sample += options_.sample_every;
       continue;
     }
+    ReadRss();
     const double wake = std::min({next_sample, next_reload, options_.seconds});
     std::this_thread::sleep_for(  // pacing the schedule, not synchronising with anything
         std::chrono::duration<double>(std::min(wake - now, 0.25)));
@@ -156,10 +157,17 @@ void SoakRun::Loop() {
   }
 }
 
+void SoakRun::ReadRss() {
+  if (const uint64_t rss = daemon_->RssBytes(); rss > 0) rss_interval_.Add(rss);
+}
+
 SamplePoint SoakRun::Sample(double seconds) {
   SamplePoint sample;
   sample.seconds = seconds;
-  sample.rss_bytes = daemon_->RssBytes();
+  ReadRss();
+  sample.rss_bytes = rss_interval_.low();
+  sample.rss_peak_bytes = rss_interval_.high();
+  rss_interval_ = RssRange();
   sample.scrape =
       Scrape::Parse(testing::HttpCall(daemon_->process().http_port(), "GET", "/metrics").body);
   sample.reloads = reloads_;

@@ -52,6 +52,9 @@ class SoakRun {
   Status Setup();
   Status StartSenders();
   void Loop();
+  // Reads the daemon's VmRSS into the current interval's range (the loop calls it at every wake).
+  void ReadRss();
+  // Closes the interval: the scrape, and the interval's RSS range (with a read now).
   SamplePoint Sample(double seconds);
   // Compares `sample` with the last one kept; false when the daemon did not answer (the
   // sample is then not kept).
@@ -86,6 +89,7 @@ class SoakRun {
 
   double started_ = 0;  // steady seconds when the senders started
   std::vector<SamplePoint> samples_;
+  RssRange rss_interval_;  // VmRSS reads since the last sample
   int reloads_ = 0, http_reloads_ = 0, hup_reloads_ = 0, failed_reloads_ = 0;
   int dead_samples_ = 0, backwards_samples_ = 0, short_connection_samples_ = 0;
   bool daemon_died_ = false;
