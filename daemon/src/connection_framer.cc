@@ -13,20 +13,7 @@ bool ConnectionFramer::Feed(std::string_view chunk, const RecordHandler& handler
       lines->Feed(chunk, handler);
       return true;
     }
-    // Runs of whole lines go out in one call each; whatever the fast path cannot take (the end
-    // of a line begun in an earlier chunk, an overlong line, a partial last line) goes through
-    // Feed one line at a time, so the order is kept.
-    while (!chunk.empty()) {
-      uint64_t records = 0;
-      const size_t whole = lines->TakeWholeLines(chunk, records);
-      if (records > 0) run_handler(chunk.substr(0, whole), records);
-      chunk.remove_prefix(whole);
-      if (chunk.empty()) break;
-      const size_t newline = chunk.find('\n');
-      const size_t piece = newline == std::string_view::npos ? chunk.size() : newline + 1;
-      lines->Feed(chunk.substr(0, piece), handler);
-      chunk.remove_prefix(piece);
-    }
+    lines->FeedRuns(chunk, handler, run_handler);
     return true;
   }
   return std::get<LengthPrefixFramer>(framer_).Feed(chunk, handler);

@@ -123,7 +123,7 @@ BENCHMARK(BM_Memchr_Newlines)->Unit(benchmark::kMillisecond);
 
 // Line framing of 64 KiB receive buffers, as a connection sees them: range(0) = 0 finds each
 // line with Feed (one memchr and one call per line), 1 takes the runs of whole lines with
-// TakeWholeLines (the daemon's path). Compare both with BM_Memchr_Newlines.
+// FeedRuns (the daemon's path). Compare both with BM_Memchr_Newlines.
 void BM_LineFramer_Chunks(benchmark::State& state) {
   const std::string& buffer = BigBuffer();
   constexpr size_t kChunk = 64 * 1024;
@@ -132,20 +132,13 @@ void BM_LineFramer_Chunks(benchmark::State& state) {
   const auto count = [&](std::string_view) { ++records; };
   for (auto _ : state) {
     for (size_t at = 0; at < buffer.size(); at += kChunk) {
-      std::string_view chunk = std::string_view(buffer).substr(at, kChunk);
+      const std::string_view chunk = std::string_view(buffer).substr(at, kChunk);
       if (state.range(0) == 0) {
         framer.Feed(chunk, count);
         continue;
       }
-      while (!chunk.empty()) {  // as ConnectionFramer does
-        uint64_t whole_records = 0;
-        chunk.remove_prefix(framer.TakeWholeLines(chunk, whole_records));
-        records += whole_records;
-        const size_t newline = chunk.find('\n');
-        const size_t piece = newline == std::string_view::npos ? chunk.size() : newline + 1;
-        framer.Feed(chunk.substr(0, piece), count);
-        chunk.remove_prefix(piece);
-      }
+      framer.FeedRuns(chunk, count,
+                      [&](std::string_view, uint64_t whole_records) { records += whole_records; });
     }
     benchmark::DoNotOptimize(records);
   }

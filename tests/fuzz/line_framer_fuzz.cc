@@ -1,9 +1,10 @@
 // Fuzz target: LineFramer.
 // Property: the records and counters a LineFramer hands out do not depend on how the stream is
-// cut into chunks (fed whole, fed in fuzz-chosen chunk sizes, fed byte by byte), and they equal
-// a plain reference that splits the whole input at '\n' and applies the overlong policy to each
-// line; no record is longer than max_record_bytes, and a framer reused after Finish behaves
-// like a new one.
+// cut into chunks (fed whole, fed in fuzz-chosen chunk sizes, fed byte by byte) nor on whether
+// runs of whole lines are taken at once (FeedRuns, the daemon's path), and they equal a plain
+// reference that splits the whole input at '\n' and applies the overlong policy to each line;
+// no record is longer than max_record_bytes, every run is whole lines and says how many, and a
+// framer reused after Finish behaves like a new one.
 #include <string>
 #include <vector>
 
@@ -26,12 +27,30 @@ bool SameCounters(const FramerCounters& a, const FramerCounters& b) {
          a.oversized_frame == b.oversized_frame && a.truncated_frame == b.truncated_frame;
 }
 
-// Feeds `data` in chunks whose sizes cycle through `sizes` (0 means: the rest at once).
-Outcome Frame(LineFramer& framer, std::string_view data, const std::vector<size_t>& sizes) {
+// Feeds `data` in chunks whose sizes cycle through `sizes` (0 means: the rest at once), with
+// Feed, or with FeedRuns and each run split back into its lines.
+Outcome Frame(LineFramer& framer, std::string_view data, const std::vector<size_t>& sizes,
+              bool runs = false) {
   Outcome out;
   const FramerCounters before = framer.counters();
   auto sink = [&out](std::string_view record) { out.records.emplace_back(record); };
-  ForEachChunk(data, sizes, [&](std::string_view chunk) { framer.Feed(chunk, sink); });
+  auto run = [&out](std::string_view text, uint64_t records) {
+    FUZZ_CHECK(records > 0 && !text.empty() && text.back() == '\n');
+    for (; records > 0; --records) {
+      const size_t end = text.find('\n');
+      FUZZ_CHECK(end != std::string_view::npos);
+      out.records.emplace_back(text.substr(0, end + 1));
+      text.remove_prefix(end + 1);
+    }
+    FUZZ_CHECK(text.empty());
+  };
+  ForEachChunk(data, sizes, [&](std::string_view chunk) {
+    if (runs) {
+      framer.FeedRuns(chunk, sink, run);
+    } else {
+      framer.Feed(chunk, sink);
+    }
+  });
   framer.Finish(sink);
   const FramerCounters& after = framer.counters();
   out.counters.records = after.records - before.records;
@@ -86,7 +105,9 @@ extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
   const Outcome whole = Frame(framer, stream, {});
   const Outcome chunked = Frame(framer, stream, sizes);  // reused after Finish
   const Outcome bytewise = Frame(framer, stream, {1});
-  for (const Outcome* got : {&whole, &chunked, &bytewise}) {
+  const Outcome runs_whole = Frame(framer, stream, {}, /*runs=*/true);
+  const Outcome runs_chunked = Frame(framer, stream, sizes, /*runs=*/true);
+  for (const Outcome* got : {&whole, &chunked, &bytewise, &runs_whole, &runs_chunked}) {
     FUZZ_CHECK(got->records == expected.records);
     FUZZ_CHECK(SameCounters(got->counters, expected.counters));
     for (const std::string& record : got->records) FUZZ_CHECK(record.size() <= max_record_bytes);

@@ -66,6 +66,24 @@ class LineFramer {
   // records (into `records` and counters()) and returns the prefix's length. Feed must take
   // what follows it. Scans 64 bytes per step with no call per line.
   size_t TakeWholeLines(std::string_view chunk, uint64_t& records);
+  // Feed for chunks of many lines: each run of whole lines goes to run(text, records) in one
+  // call, everything else (the end of a line begun in an earlier chunk, an overlong line, a
+  // partial last line) to `sink` one record at a time, in stream order. Records and counters
+  // are those Feed alone gives.
+  template <class RunFn>
+  void FeedRuns(std::string_view chunk, RecordSink sink, RunFn&& run) {
+    while (!chunk.empty()) {
+      uint64_t records = 0;
+      const size_t whole = TakeWholeLines(chunk, records);
+      if (records > 0) run(chunk.substr(0, whole), records);
+      chunk.remove_prefix(whole);
+      if (chunk.empty()) break;
+      const size_t newline = chunk.find('\n');
+      const size_t piece = newline == std::string_view::npos ? chunk.size() : newline + 1;
+      Feed(chunk.substr(0, piece), sink);
+      chunk.remove_prefix(piece);
+    }
+  }
   // The stream ended: emits an unterminated final line, then resets for reuse.
   void Finish(RecordSink sink);
 
