@@ -9,7 +9,6 @@
 #include <boost/asio/io_context.hpp>
 #include <boost/asio/ip/udp.hpp>
 #include <boost/asio/post.hpp>
-#include <boost/asio/strand.hpp>
 
 #include "listener_core.h"
 #include <sys/socket.h>
@@ -45,14 +44,14 @@ struct BurstCounts {
   }
 };
 
-// Receives on one UDP socket on its own strand.
+// Receives on one UDP socket, on one ingest context run by one thread (so no strand).
 class DatagramListener : public ListenerCore,
                          public std::enable_shared_from_this<DatagramListener> {
  public:
   DatagramListener(asio::io_context& io, std::shared_ptr<const ListenerContext> context)
       : io_(io),
         context_(std::move(context)),
-        socket_(asio::make_strand(io)),
+        socket_(io),
         buffer_size_(std::min<size_t>(context_->config.max_record_bytes, kMaxDatagramBytes)),
         buffer_(new char[buffer_size_]) {}
 
@@ -231,14 +230,14 @@ class DatagramListener : public ListenerCore,
 
   asio::io_context& io_;
   const std::shared_ptr<const ListenerContext> context_;
-  udp::socket socket_;  // on its strand after Start
+  udp::socket socket_;  // its context's thread only, after Start
   const size_t buffer_size_;
   std::unique_ptr<char[]> buffer_;
   udp::endpoint sender_;
   udp::endpoint last_sender_;
   bool last_allowed_ = false;
   bool has_last_sender_ = false;
-  bool draining_ = false;  // Stop asked; strand only
+  bool draining_ = false;  // Stop asked; the socket's thread only
   std::chrono::steady_clock::time_point drain_deadline_;
   std::atomic<uint16_t> port_{0};
   std::atomic<bool> stopping_{false};

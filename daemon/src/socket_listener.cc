@@ -15,7 +15,6 @@
 #include <boost/asio/local/stream_protocol.hpp>
 #include <boost/asio/post.hpp>
 #include <boost/asio/steady_timer.hpp>
-#include <boost/asio/strand.hpp>
 
 #include "connection_framer.h"
 #include "io_pool.h"
@@ -163,7 +162,7 @@ class SocketListener : public ListenerCore,
       : pool_(pool),
         io_(pool.Next()),
         context_(std::move(context)),
-        acceptor_(asio::make_strand(io_)),
+        acceptor_(io_),
         retry_timer_(acceptor_.get_executor()) {}
 
   const ListenerContext& context() const { return *context_; }
@@ -357,8 +356,8 @@ class SocketListener : public ListenerCore,
   IoPool& pool_;
   asio::io_context& io_;  // the acceptor's context
   const std::shared_ptr<const ListenerContext> context_;
-  typename Protocol::acceptor acceptor_;  // on its strand after Start
-  asio::steady_timer retry_timer_;        // same strand
+  typename Protocol::acceptor acceptor_;  // its context's thread only, after Start
+  asio::steady_timer retry_timer_;        // the same thread
   bool bound_ = false;                    // a unix socket file of ours exists
   std::atomic<uint16_t> port_{0};
   std::atomic<bool> stopping_{false};

@@ -43,9 +43,9 @@ class ListenerCore;  // the per-scheme implementation (stream_listener.cc, datag
 //   datagram over max_record_bytes  records_rejected{oversized_datagram}, dropped
 // Reads go into a 64 KiB buffer per connection; everything is asynchronous, so a slow or
 // stuck client never holds up another. The acceptor, each connection and a udp socket go to
-// the pool's ingest contexts in turn; Start, Stop and WaitStopped are
-// thread-safe. Connections keep the shared state alive, so the listener may be destroyed while
-// the pool still runs (it stops first); destroy it before the pool.
+// the pool's ingest contexts in turn; Start, Stop and WaitStopped are thread-safe. Connections
+// keep the shared state alive, so the listener may be destroyed while the pool still runs (it
+// stops first); destroy it before the pool.
 class StreamListener {
  public:
   // `counters` must not be null; the config is copied. Without `log`, lines go to std::clog.
