@@ -1,5 +1,6 @@
 #include "model_runtime.h"
 
+#include <bitset>
 #include <chrono>
 #include <cstdio>
 
@@ -91,8 +92,11 @@ ModelRuntime::ModelRuntime(std::string stream, ModelConfig config, const Clock& 
 
 Status ModelRuntime::LoadTable() {
   if (config_.table.empty()) {
-    std::lock_guard lock(mutex_);
-    table_problem_ = "no table configured: entropy only";
+    {
+      std::lock_guard lock(mutex_);
+      table_problem_ = "no table configured: entropy only";
+    }
+    CountOnlyUncoveredBytes();
     return Ok{};
   }
   auto table = LoadCodeTable(config_.table);
@@ -106,10 +110,30 @@ Status ModelRuntime::LoadTable() {
                  ": table covers only part of its alphabet and has no escape, so symbols it "
                  "does not cover could not be sent; add an escape entry to deploy it"};
   }
-  std::lock_guard lock(mutex_);
-  table_ = std::make_shared<const CodeTable>(std::move(table).value());
-  table_problem_.clear();
+  {
+    std::lock_guard lock(mutex_);
+    table_ = std::make_shared<const CodeTable>(std::move(table).value());
+    table_problem_.clear();
+  }
+  CountOnlyUncoveredBytes();
   return Ok{};
+}
+
+void ModelRuntime::CountOnlyUncoveredBytes() {
+  if (config_.symbols.kind != AlphabetKind::kBytes || config_.symbols.block != 1) return;
+  std::shared_ptr<const CodeTable> table;
+  {
+    std::lock_guard lock(mutex_);
+    table = table_;
+  }
+  std::bitset<256> uncovered;
+  if (table) {
+    const TableCosts costs(*table);
+    for (unsigned byte = 0; byte < 256; ++byte) {
+      if (!costs.Covers(SymbolKey(1, static_cast<char>(byte)))) uncovered.set(byte);
+    }
+  }
+  model_->CountOnlyBytes(ByteSelection(uncovered));
 }
 
 bool ModelRuntime::AdoptCountsFrom(ModelRuntime& previous) {
@@ -122,6 +146,7 @@ bool ModelRuntime::AdoptCountsFrom(ModelRuntime& previous) {
     return false;
   }
   model_ = previous.model_;
+  CountOnlyUncoveredBytes();  // this runtime's table, which may differ from the previous one
   evaluator_ = previous.evaluator_;
   state_machine_ = previous.state_machine_;
   state_machine_.set_rule(ToStateRule(config_.alert));

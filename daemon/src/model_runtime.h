@@ -82,6 +82,11 @@ class ModelRuntime {
   const ModelConfig& config() const { return config_; }
 
  private:
+  // Single-byte models: the model keeps lifetime counts only of the bytes the deployed table
+  // has no code for (all the unknown-symbol figures read), so with a table that codes the
+  // traffic, or none, ingest does no per-byte counting.
+  void CountOnlyUncoveredBytes();
+
   const std::string stream_;
   const ModelConfig config_;
   const Clock& clock_;

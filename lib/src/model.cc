@@ -2,8 +2,6 @@
 
 #include <algorithm>
 
-#include "codedrift/byte_histogram.h"
-
 #include "token_symbolizer.h"
 
 namespace codedrift {
@@ -123,14 +121,15 @@ void Model::Ingest(std::string_view record) {
 void Model::IngestRun(std::string_view run, uint64_t records) {
   if (raw_bytes_) {
     uint64_t counts[256] = {};
-    const bool outside = run.size() >= kCountOutsideLockBytes;
-    if (outside) CountBytes(run, counts);
+    const std::shared_ptr<const ByteSelection> counted = counted_bytes_.load();
+    const bool outside = run.size() >= kCountOutsideLockBytes && !counted->none();
+    if (outside) counted->Count(run, counts);
     std::lock_guard lock(mutex_);
     records_total_ += records;
     if (outside) {
       for (size_t b = 0; b < 256; ++b) byte_counts_[b] += counts[b];
     } else {
-      CountBytes(run, byte_counts_);
+      counted->Count(run, byte_counts_);
     }
     window_->PushBytes({reinterpret_cast<const uint8_t*>(run.data()), run.size()});
     symbols_total_ += run.size();
@@ -159,6 +158,10 @@ void Model::IngestRun(std::string_view run, uint64_t records) {
     }
   }
   AddIds(scratch_ids_, symbolizer_->IdLimit(), records);
+}
+
+void Model::CountOnlyBytes(const ByteSelection& bytes) {
+  counted_bytes_.store(std::make_shared<const ByteSelection>(bytes));
 }
 
 ModelSample Model::Sample() {

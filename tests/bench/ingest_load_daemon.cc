@@ -5,6 +5,10 @@
 #include <fstream>
 #include <sstream>
 
+#include "codedrift/byte_histogram.h"
+#include "codedrift/code_table.h"
+#include "codedrift/symbol_counts.h"
+
 #include <unistd.h>
 
 namespace codedrift::bench {
@@ -61,13 +65,28 @@ std::string DaemonConfigText(const std::vector<BenchStream>& streams,
             << ", max_distinct: " << tokens.max_distinct << "}\n";
       }
       out << "        window: {symbols: " << model.window_symbols << "}\n";
+      if (!model.table.empty()) out << "        table: " << model.table << "\n";
     }
   }
   return out.str();
 }
 
-BenchDaemon::BenchDaemon(const std::string& config_yaml)
-    : process_(std::make_unique<testing::DaemonProcess>(dir_, config_yaml)) {}
+Result<std::string> TrainedBytesTable(std::string_view sample) {
+  uint64_t histogram[256] = {};
+  CountBytes(sample, histogram);
+  SymbolCounts counts(Alphabet::Bytes(1));
+  for (int byte = 0; byte < 256; ++byte) {
+    if (histogram[byte] > 0) counts.Add(SymbolKey(1, static_cast<char>(byte)), histogram[byte]);
+  }
+  auto table = TrainPrefixTable(counts, /*max_length=*/15, /*literal_bits=*/8);
+  if (!table.ok()) return table.error();
+  return FormatCodeTable(table.value());
+}
+
+BenchDaemon::BenchDaemon(const std::string& config_yaml, const std::vector<BenchFile>& files) {
+  for (const BenchFile& file : files) dir_.Write(file.name, file.content);
+  process_ = std::make_unique<testing::DaemonProcess>(dir_, config_yaml);
+}
 
 BenchDaemon::~BenchDaemon() = default;  // the process is killed if still running
 

@@ -28,7 +28,18 @@ struct BenchModel {
   std::string name;
   ModelKind kind = ModelKind::kBytes;
   uint64_t window_symbols = 1 << 20;
+  std::string table;  // a file in the daemon's directory (BenchFile); empty: no table
 };
+
+// A file written into the daemon's directory before it starts (a deployed table).
+struct BenchFile {
+  std::string name;
+  std::string content;
+};
+
+// The table a link would deploy for single bytes: a prefix code trained on `sample` (the
+// start of the capture), with an escape for bytes the sample lacks.
+Result<std::string> TrainedBytesTable(std::string_view sample);
 
 struct BenchStream {
   std::string name;
@@ -43,7 +54,7 @@ std::string DaemonConfigText(const std::vector<BenchStream>& streams,
 // One codedriftd process in a temporary directory. Not thread-safe; one benchmark thread.
 class BenchDaemon {
  public:
-  explicit BenchDaemon(const std::string& config_yaml);
+  explicit BenchDaemon(const std::string& config_yaml, const std::vector<BenchFile>& files = {});
   ~BenchDaemon();
 
   Status WaitReady();

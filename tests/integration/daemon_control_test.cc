@@ -1,6 +1,7 @@
 // The real daemon's control plane: config errors before anything binds, reload with good and
 // bad tables, the admin token, SIGTERM with data in flight, HTTP errors.
 #include <csignal>
+#include <random>
 #include <string>
 #include <vector>
 
@@ -136,6 +137,51 @@ TEST(DaemonControl, ReloadSwapsTablesKeepsCountsAndRejectsBadTables) {
                      {std::string("Authorization: Bearer ") + kToken})
                 .status,
             200);
+  EXPECT_EQ(daemon.Stop(), 0);
+}
+
+// The unknown-symbol total stays exact while a bytes model keeps lifetime counts only of the
+// bytes its deployed table lacks: long runs and a short record under one table, then more
+// after a reload to another (the kept model switches to the new table's uncovered bytes).
+TEST(DaemonControl, UnknownSymbolTotalFollowsTheDeployedTableAcrossReloads) {
+  TempDir dir;
+  WriteTokenAndTable(dir);  // current.table covers abcd
+  DaemonProcess daemon(dir, Config());
+  ASSERT_TRUE(daemon.WaitReady()) << daemon.Log();
+  std::mt19937_64 rng(61);
+  const auto text = [&](size_t n) {  // invented: lines over eight letters
+    std::string out(n, '\n');
+    for (char& c : out) c = "abcdwxyz\n"[rng() % 9];
+    return out + "\n";
+  };
+  const auto uncovered = [](const std::string& data, const std::string& covered) {
+    uint64_t n = 0;
+    for (char c : data) n += covered.find(c) == std::string::npos ? 1 : 0;
+    return n;
+  };
+  uint64_t sent = 0;
+  uint64_t expected = 0;
+  const auto send_and_check = [&](const std::string& data, const std::string& covered) {
+    SendTcp(daemon.stream_port("uplink"), data);
+    sent += data.size();
+    expected += uncovered(data, covered);
+    nlohmann::json model;
+    ASSERT_TRUE(WaitFor([&] {
+      model = daemon.ModelJson("uplink", "bytes");
+      return model.is_object() && model.value("symbols_total", uint64_t{0}) == sent;
+    })) << model.dump()
+        << daemon.Log();
+    EXPECT_EQ(model["unknown_symbols_total"].get<uint64_t>(), expected);
+    EXPECT_EQ(daemon.Metric("codedrift_unknown_symbols_total", {"model=\"bytes\""}),
+              static_cast<double>(expected));
+  };
+  send_and_check(text(300000), "abcd");  // received as long runs
+  send_and_check("wxyz\n", "abcd");      // one short record
+  dir.Write("current.table", TableFor("wxyz"));
+  daemon.Signal(SIGHUP);
+  ASSERT_TRUE(WaitFor([&] { return daemon.Log().find("reloaded") != std::string::npos; }))
+      << daemon.Log();
+  send_and_check(text(300000), "wxyz");
   EXPECT_EQ(daemon.Stop(), 0);
 }
 

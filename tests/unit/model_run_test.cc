@@ -1,6 +1,7 @@
 // Model::IngestRun: a run of whole lines has the same effect as Ingest on each line in turn,
 // for every symbolizer and both window kinds. Property tests on invented telemetry, with the
 // record-by-record model as the oracle.
+#include <bitset>
 #include <random>
 #include <string>
 #include <vector>
@@ -89,6 +90,45 @@ TEST(ModelIngestRun, SameSampleAsIngestingEachLine) {
     EXPECT_EQ(actual.window->Count(4, id_limit).batches,
               expected.window->Count(4, id_limit).batches);
   }
+}
+
+// CountOnlyBytes: lifetime counts of the selected bytes stay exact through short records
+// (counted under the model's lock) and long runs (counted outside it); the other bytes stop
+// where they were, while the window and totals still see every byte.
+TEST(ModelIngestRun, CountOnlyBytesKeepsExactCountsOfTheSelectedBytes) {
+  ManualClock clock;
+  Model model(SymbolizerSpec{.kind = AlphabetKind::kBytes}, WindowSpec{.symbols = 1 << 20}, clock);
+  const std::vector<std::string> lines = ProbeLines(21, 4000);
+  std::vector<uint64_t> expected(256, 0);
+  const auto ingest = [&](size_t from, size_t to, const std::bitset<256>& counted) {
+    std::string run;
+    for (size_t k = from; k < to; ++k) {
+      run += lines[k];
+      for (unsigned char c : lines[k]) expected[c] += counted[c] ? 1 : 0;
+    }
+    if (to - from == 1) {
+      model.Ingest(run);
+    } else {
+      model.IngestRun(run, to - from);
+    }
+  };
+  std::bitset<256> all;
+  all.set();
+  ingest(0, 1000, all);  // the default: every byte
+  std::bitset<256> digits_and_z;
+  for (char c : std::string("0123456789z")) digits_and_z.set(static_cast<unsigned char>(c));
+  model.CountOnlyBytes(ByteSelection(digits_and_z));
+  ingest(1000, 3000, digits_and_z);                                     // one long run
+  for (size_t k = 3000; k < 3100; ++k) ingest(k, k + 1, digits_and_z);  // short records
+  for (size_t k = 3100; k < 4000; k += 3) ingest(k, std::min<size_t>(k + 3, 4000), digits_and_z);
+
+  const ModelSample sample = model.Sample();
+  EXPECT_EQ(sample.cumulative, expected);
+  EXPECT_EQ(sample.records_total, lines.size());
+  uint64_t bytes = 0;
+  for (const std::string& line : lines) bytes += line.size();
+  EXPECT_EQ(sample.symbols_total, bytes);
+  EXPECT_EQ(sample.window->size(), bytes);
 }
 
 }  // namespace

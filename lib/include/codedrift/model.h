@@ -2,6 +2,7 @@
 // Ingest runs on socket threads; Sample runs on the evaluation thread.
 #pragma once
 
+#include <atomic>
 #include <cstdint>
 #include <memory>
 #include <mutex>
@@ -12,6 +13,8 @@
 #include <vector>
 
 #include "codedrift/alphabet.h"
+#include "codedrift/brief_lock_mutex.h"
+#include "codedrift/byte_selection.h"
 #include "codedrift/clock.h"
 #include "codedrift/symbolizer.h"
 #include "codedrift/window.h"
@@ -71,6 +74,12 @@ class Model {
   // Copies the window and counters (brief lock; the counting happens later, unlocked).
   ModelSample Sample();
 
+  // Single-byte models: the bytes whose lifetime counts (ModelSample::cumulative) are kept;
+  // the others stop growing. The evaluation needs lifetime counts only for bytes the
+  // deployed table has no code for, and skipping the rest keeps per-byte counting off the hot
+  // path. Every byte until this is called; other models count every id regardless.
+  void CountOnlyBytes(const ByteSelection& bytes);
+
   const SymbolizerSpec& symbolizer_spec() const { return symbolizer_spec_; }
   const WindowSpec& window_spec() const { return window_spec_; }
   uint64_t window_memory_bytes();
@@ -97,7 +106,7 @@ class Model {
   // Under mutex_: counts and pushes ids (all below `limit`) of `records` records.
   void AddIds(const std::vector<SymbolId>& ids, SymbolId limit, uint64_t records);
 
-  std::mutex mutex_;  // guards everything below; taken before symbolizer_mutex_ when both are
+  BriefLockMutex mutex_;  // guards everything below; taken before symbolizer_mutex_ when both are
   // Guards the symbolizer's state for tokens models (shared: reads, exclusive: new tokens),
   // and the symbolizer_ pointer together with mutex_.
   std::shared_mutex symbolizer_mutex_;
@@ -107,7 +116,10 @@ class Model {
   std::vector<SymbolId> scratch_ids_;
   std::vector<SymbolKey> keys_;
   std::vector<uint64_t> cumulative_;  // by id (not raw bytes)
-  uint64_t byte_counts_[256] = {};    // raw bytes
+  uint64_t byte_counts_[256] = {};    // raw bytes: those in counted_bytes_
+  // Read by ingest before it takes mutex_ (the selection changes only at reloads).
+  std::atomic<std::shared_ptr<const ByteSelection>> counted_bytes_{
+      std::make_shared<const ByteSelection>()};
   uint64_t symbols_total_ = 0;
   uint64_t records_total_ = 0;
 };
