@@ -46,7 +46,11 @@ std::string RenderDistributionChart(const DistributionChart& chart) {
 
   double highest = 0;
   for (const auto& bar : bars) highest = std::max({highest, bar.probability_a, bar.probability_b});
-  const auto [top, step] = Scale(std::max(highest, 1e-6));
+  // Named variables, not a structured binding: the lambda below captures `top`, which clang
+  // before 16 refuses for bindings.
+  const std::pair<double, double> scale = Scale(std::max(highest, 1e-6));
+  const double top = scale.first;
+  const double step = scale.second;
   const double plot_width = kWidth - kLeft - kRight;
   const double plot_height = kHeight - kTop - kBottom;
   const double slot = plot_width / static_cast<double>(std::max<size_t>(bars.size(), 1));
