@@ -58,6 +58,7 @@ test-sanitize: deps
 # only their tests are discovered.
 TSAN_BUILD   ?= build-tsan
 TSAN_TARGETS ?= listener_test daemon_http_server_test webhook_sink_test daemon_ingest_test \
+                model_concurrency_test \
                 daemon_control_test hostile_input_test codedriftd codedrift
 test-tsan: deps
 	cmake -S . -B $(TSAN_BUILD) -DCODEDRIFT_SANITIZE=thread \

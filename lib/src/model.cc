@@ -121,7 +121,7 @@ void Model::Ingest(std::string_view record) {
 void Model::IngestRun(std::string_view run, uint64_t records) {
   if (raw_bytes_) {
     uint64_t counts[256] = {};
-    const std::shared_ptr<const ByteSelection> counted = counted_bytes_.load();
+    const CountedBytes counted = counted_bytes();
     const bool outside = run.size() >= kCountOutsideLockBytes && !counted->none();
     if (outside) counted->Count(run, counts);
     std::lock_guard lock(mutex_);
@@ -161,7 +161,14 @@ void Model::IngestRun(std::string_view run, uint64_t records) {
 }
 
 void Model::CountOnlyBytes(const ByteSelection& bytes) {
-  counted_bytes_.store(std::make_shared<const ByteSelection>(bytes));
+  auto counted = std::make_shared<const ByteSelection>(bytes);
+  std::lock_guard lock(counted_bytes_mutex_);
+  counted_bytes_.swap(counted);  // the old one is freed after the lock, by the last holder
+}
+
+CountedBytes Model::counted_bytes() const {
+  std::lock_guard lock(counted_bytes_mutex_);
+  return counted_bytes_;
 }
 
 ModelSample Model::Sample() {

@@ -2,7 +2,6 @@
 // Ingest runs on socket threads; Sample runs on the evaluation thread.
 #pragma once
 
-#include <atomic>
 #include <cstdint>
 #include <memory>
 #include <mutex>
@@ -57,6 +56,7 @@ struct ModelState {
 };
 
 class TokenSymbolizer;
+using CountedBytes = std::shared_ptr<const ByteSelection>;
 
 // Thread-safe: Ingest may be called from any thread; Sample from another.
 class Model {
@@ -117,9 +117,11 @@ class Model {
   std::vector<SymbolKey> keys_;
   std::vector<uint64_t> cumulative_;  // by id (not raw bytes)
   uint64_t byte_counts_[256] = {};    // raw bytes: those in counted_bytes_
-  // Read by ingest before it takes mutex_ (the selection changes only at reloads).
-  std::atomic<std::shared_ptr<const ByteSelection>> counted_bytes_{
-      std::make_shared<const ByteSelection>()};
+  // Read by ingest before it takes mutex_, under a lock of its own held only to copy the
+  // pointer (the selection changes only at reloads).
+  CountedBytes counted_bytes() const;
+  mutable BriefLockMutex counted_bytes_mutex_;
+  CountedBytes counted_bytes_ = std::make_shared<const ByteSelection>();
   uint64_t symbols_total_ = 0;
   uint64_t records_total_ = 0;
 };
