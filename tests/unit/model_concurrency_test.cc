@@ -161,18 +161,29 @@ TEST(ModelConcurrencyProperty, TokensBeyondMaxDistinctAreOverflowWhicheverArrive
   EXPECT_EQ(ByKey(sample, true), counted);
 }
 
-TEST(ModelConcurrencyProperty, BytesFromFourThreadsCountEveryByte) {
-  SymbolizerSpec spec{.kind = AlphabetKind::kBytes};
+// Each thread's lines, and the bytes of them all by value and in total.
+struct ThreadTraffic {
   std::vector<std::vector<std::string>> lines;
-  uint64_t histogram[256] = {};
+  std::vector<uint64_t> histogram = std::vector<uint64_t>(256, 0);
   uint64_t bytes = 0;
+};
+
+ThreadTraffic TrafficOfThreads(uint64_t first_seed) {
+  ThreadTraffic traffic;
   for (int t = 0; t < kThreads; ++t) {
-    lines.push_back(SensorLines(300 + t, 3000, 0));
-    for (const std::string& line : lines.back()) {
-      for (const unsigned char c : line) ++histogram[c];
-      bytes += line.size();
+    traffic.lines.push_back(SensorLines(first_seed + static_cast<uint64_t>(t), 3000, 0));
+    for (const std::string& line : traffic.lines.back()) {
+      for (const unsigned char c : line) ++traffic.histogram[c];
+      traffic.bytes += line.size();
     }
   }
+  return traffic;
+}
+
+TEST(ModelConcurrencyProperty, BytesFromFourThreadsCountEveryByte) {
+  SymbolizerSpec spec{.kind = AlphabetKind::kBytes};
+  const ThreadTraffic traffic = TrafficOfThreads(300);
+  const auto& [lines, histogram, bytes] = traffic;
   ManualClock clock;
   Model model(spec, kBigWindow, clock);
   IngestConcurrently(model, lines);
@@ -181,8 +192,8 @@ TEST(ModelConcurrencyProperty, BytesFromFourThreadsCountEveryByte) {
   ASSERT_EQ(sample.cumulative.size(), 256u);
   const std::vector<uint64_t> window = sample.window->Count(1, 256).batches.at(0);
   for (int b = 0; b < 256; ++b) {
-    EXPECT_EQ(sample.cumulative[static_cast<size_t>(b)], histogram[b]) << b;
-    EXPECT_EQ(window[static_cast<size_t>(b)], histogram[b]) << b;
+    EXPECT_EQ(sample.cumulative[static_cast<size_t>(b)], histogram[static_cast<size_t>(b)]) << b;
+    EXPECT_EQ(window[static_cast<size_t>(b)], histogram[static_cast<size_t>(b)]) << b;
   }
 }
 
@@ -190,16 +201,8 @@ TEST(ModelConcurrencyProperty, BytesFromFourThreadsCountEveryByte) {
 // every selection used keep exact lifetime counts, the others never count more than arrived,
 // and the window and totals see every byte.
 TEST(ModelConcurrencyProperty, CountedBytesChangingDuringIngestKeepTheCommonOnesExact) {
-  std::vector<std::vector<std::string>> lines;
-  uint64_t histogram[256] = {};
-  uint64_t bytes = 0;
-  for (int t = 0; t < kThreads; ++t) {
-    lines.push_back(SensorLines(400 + t, 3000, 0));
-    for (const std::string& line : lines.back()) {
-      for (const unsigned char c : line) ++histogram[c];
-      bytes += line.size();
-    }
-  }
+  const ThreadTraffic traffic = TrafficOfThreads(400);
+  const auto& [lines, histogram, bytes] = traffic;
   std::bitset<256> digits_and_early;  // digits in both selections, letters in one each
   std::bitset<256> digits_and_late;
   for (int c = '0'; c <= '9'; ++c) {
@@ -225,11 +228,11 @@ TEST(ModelConcurrencyProperty, CountedBytesChangingDuringIngestKeepTheCommonOnes
   const std::vector<uint64_t> window = sample.window->Count(1, 256).batches.at(0);
   for (int b = 0; b < 256; ++b) {
     const auto i = static_cast<size_t>(b);
-    EXPECT_EQ(window[i], histogram[b]) << b;
+    EXPECT_EQ(window[i], histogram[static_cast<size_t>(b)]) << b;
     if (b >= '0' && b <= '9') {
-      EXPECT_EQ(sample.cumulative[i], histogram[b]) << b;
+      EXPECT_EQ(sample.cumulative[i], histogram[static_cast<size_t>(b)]) << b;
     } else {
-      EXPECT_LE(sample.cumulative[i], histogram[b]) << b;
+      EXPECT_LE(sample.cumulative[i], histogram[static_cast<size_t>(b)]) << b;
     }
   }
 }
