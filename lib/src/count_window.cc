@@ -20,6 +20,15 @@ class RingWindow final : public Window {
 
   std::unique_ptr<Window> Clone() const override { return std::make_unique<RingWindow>(*this); }
 
+  bool CopyInto(Window& copy) const override {
+    auto* to = dynamic_cast<RingWindow*>(&copy);
+    if (to == nullptr || to->ring_.size() != ring_.size()) return false;
+    std::copy(ring_.begin(), ring_.end(), to->ring_.begin());
+    to->head_ = head_;
+    to->size_ = size_;
+    return true;
+  }
+
   WindowCounts Count(int batch_count, SymbolId id_limit) const override {
     WindowCounts out;
     out.symbols = size_;

@@ -174,25 +174,42 @@ CountedBytes Model::counted_bytes() const {
 ModelSample Model::Sample() {
   ModelSample sample;
   sample.alphabet = symbolizer_spec_.alphabet();
-  std::lock_guard lock(mutex_);
-  std::shared_lock symbolizer_lock(symbolizer_mutex_);
-  const SymbolId limit = raw_bytes_ ? 256 : symbolizer_->IdLimit();
-  // Keys are append-only, so only ids new since the last sample are looked up.
-  for (SymbolId id = static_cast<SymbolId>(keys_.size()); id < limit; ++id) {
-    keys_.push_back(symbolizer_->KeyOf(id));
+  // Ingest into this model waits while mutex_ is held, so only copying into storage allocated,
+  // and with its pages touched, beforehand runs under it: a fresh 4 MiB window copy or a
+  // 512 KiB count vector would page-fault there for milliseconds. The counts are sized by the
+  // last sample's id count (ids only grow). Keys are looked up and copied after it.
+  std::unique_ptr<Window> copy = MakeWindow(window_spec_, raw_bytes_, clock_);
+  std::lock_guard keys_lock(keys_mutex_);
+  sample.cumulative.assign(raw_bytes_ ? 256 : keys_.size(), 0);
+  SymbolId limit = 0;
+  {
+    std::lock_guard lock(mutex_);
+    std::shared_lock symbolizer_lock(symbolizer_mutex_);
+    limit = raw_bytes_ ? 256 : symbolizer_->IdLimit();
+    if (!window_->CopyInto(*copy)) copy = window_->Clone();
+    sample.cumulative.resize(limit, 0);  // allocates only when ids grew since the last sample
+    if (raw_bytes_) {
+      std::copy(std::begin(byte_counts_), std::end(byte_counts_), sample.cumulative.begin());
+    } else {
+      const size_t n = std::min<size_t>(cumulative_.size(), limit);
+      std::copy_n(cumulative_.begin(), n, sample.cumulative.begin());
+      std::fill(sample.cumulative.begin() + static_cast<std::ptrdiff_t>(n), sample.cumulative.end(),
+                0);
+    }
+    sample.symbols_total = symbols_total_;
+    sample.records_total = records_total_;
+    sample.skipped_records = symbolizer_->skipped_records();
+    sample.taken_at = clock_.Now();
   }
-  sample.window = window_->Clone();
-  sample.keys = keys_;
-  if (raw_bytes_) {
-    sample.cumulative.assign(std::begin(byte_counts_), std::end(byte_counts_));
-  } else {
-    sample.cumulative = cumulative_;
-    sample.cumulative.resize(limit, 0);
+  sample.window = std::move(copy);
+  {
+    // Keys are append-only, so only ids new since the last sample are looked up.
+    std::shared_lock symbolizer_lock(symbolizer_mutex_);
+    for (SymbolId id = static_cast<SymbolId>(keys_.size()); id < limit; ++id) {
+      keys_.push_back(symbolizer_->KeyOf(id));
+    }
   }
-  sample.symbols_total = symbols_total_;
-  sample.records_total = records_total_;
-  sample.skipped_records = symbolizer_->skipped_records();
-  sample.taken_at = clock_.Now();
+  sample.keys.assign(keys_.begin(), keys_.begin() + static_cast<std::ptrdiff_t>(limit));
   return sample;
 }
 
@@ -228,6 +245,7 @@ Status Model::ImportState(const ModelState& state) {
   if (state.cumulative.size() > limit) {
     return Error{"checkpoint counts more symbols than the symbolizer knows"};
   }
+  std::lock_guard keys_lock(keys_mutex_);
   std::lock_guard lock(mutex_);
   std::unique_lock symbolizer_lock(symbolizer_mutex_);
   symbolizer_ = std::move(symbolizer);

@@ -27,6 +27,14 @@ class BucketWindow final : public Window {
     return copy;
   }
 
+  bool CopyInto(Window& copy) const override {
+    auto* to = dynamic_cast<BucketWindow*>(&copy);
+    if (to == nullptr || to->buckets_.size() != buckets_.size()) return false;
+    *to = *this;  // buckets grow with the alphabet, so this may allocate (they are small)
+    to->Rotate(BucketIndex());
+    return true;
+  }
+
   WindowCounts Count(int batch_count, SymbolId id_limit) const override {
     // Buckets oldest first: the one after the current slot is the oldest.
     const size_t n = buckets_.size();

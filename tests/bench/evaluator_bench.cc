@@ -2,12 +2,15 @@
 // Evaluate at K = 256 (bytes) and K = 65,536 (tokens) over a full 1M-symbol window, the Sample
 // copy taken under the model's lock, and Ingest per record or per received buffer's run.
 #include <algorithm>
+#include <atomic>
+#include <chrono>
 #include <cmath>
 #include <cstdio>
 #include <cstring>
 #include <memory>
 #include <random>
 #include <string>
+#include <thread>
 #include <utility>
 #include <vector>
 
@@ -131,6 +134,45 @@ void BM_Model_Sample(benchmark::State& state) {
   state.counters["ids"] = static_cast<double>(f.sample.keys.size());
 }
 BENCHMARK(BM_Model_Sample)->Arg(256)->Arg(65536)->Unit(benchmark::kMicrosecond);
+
+// How long ingest into a model waits while the evaluation copies its window (Sample holds the
+// model's lock for the copy). Arg 0: K = 256 (1 MiB byte ring), 65,536 (4 MiB id ring); arg 1:
+// 1 with a thread taking a sample every 5 ms, 0 without (the baseline). Reports the longest
+// single Ingest call of a short record in microseconds.
+void BM_Model_IngestWhileSampling(benchmark::State& state) {
+  Fixture& f = FixtureFor(state.range(0));
+  std::atomic<bool> stop{false};
+  std::thread sampler;
+  if (state.range(1) == 1) {
+    sampler = std::thread([&] {
+      // Paced like an evaluation interval, so each sample meets an ingest waiting on it
+      // rather than starving it with back-to-back samples.
+      while (!stop) {
+        benchmark::DoNotOptimize(f.model->Sample());
+        std::this_thread::sleep_for(std::chrono::milliseconds(5));
+      }
+    });
+  }
+  const std::string record = state.range(0) > 256 ? "t1 t2\n" : "ts=1 gauge=g01\n";
+  double longest = 0;
+  for (auto _ : state) {
+    const auto start = std::chrono::steady_clock::now();
+    f.model->Ingest(record);
+    longest = std::max(
+        longest, std::chrono::duration<double, std::micro>(std::chrono::steady_clock::now() - start)
+                     .count());
+  }
+  stop = true;
+  if (sampler.joinable()) sampler.join();
+  state.counters["longest_us"] = longest;
+}
+BENCHMARK(BM_Model_IngestWhileSampling)
+    ->Args({256, 0})
+    ->Args({256, 1})
+    ->Args({65536, 0})
+    ->Args({65536, 1})
+    ->Iterations(2000000)
+    ->Unit(benchmark::kMicrosecond);
 
 // Arg 0: bytes model; 1: tokens model (digits masked, as the default config has it).
 void BM_Model_Ingest(benchmark::State& state) {

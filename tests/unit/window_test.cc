@@ -69,5 +69,40 @@ TEST(TimeWindow, DropsBucketsOlderThanTheSpan) {
   EXPECT_EQ(window->Clone()->size(), 0u);
 }
 
+// CopyInto gives what Clone gives, into a window of the same spec (a copy made earlier and
+// reused, as Model::Sample does), and refuses a window of another kind or size untouched.
+TEST(WindowCopyInto, EqualsCloneAndRefusesAnotherSpec) {
+  ManualClock clock;
+  std::mt19937_64 rng(11);
+  struct Made {
+    std::unique_ptr<Window> window, copy, other;
+  };
+  std::vector<Made> kinds;
+  kinds.push_back({MakeByteCountWindow(100), MakeByteCountWindow(100), MakeByteCountWindow(99)});
+  kinds.push_back({MakeIdCountWindow(100), MakeIdCountWindow(100), MakeByteCountWindow(100)});
+  kinds.push_back({MakeTimeWindow(std::chrono::seconds(10), 5, clock),
+                   MakeTimeWindow(std::chrono::seconds(10), 5, clock), MakeIdCountWindow(100)});
+  for (int round = 0; round < 20; ++round) {
+    std::vector<uint8_t> chunk(rng() % 80);
+    for (auto& c : chunk) c = static_cast<uint8_t>(rng() % 7);
+    const std::vector<SymbolId> ids(chunk.begin(), chunk.end());
+    for (size_t k = 0; k < kinds.size(); ++k) {
+      Made& made = kinds[k];
+      if (k == 0) {
+        made.window->PushBytes(chunk);
+      } else {
+        made.window->PushIds(ids);
+      }
+      ASSERT_TRUE(made.window->CopyInto(*made.copy)) << k;
+      const auto clone = made.window->Clone();
+      EXPECT_EQ(made.copy->size(), clone->size()) << k;
+      EXPECT_EQ(made.copy->Count(4, 7).batches, clone->Count(4, 7).batches) << k;
+      EXPECT_FALSE(made.window->CopyInto(*made.other)) << k;
+      EXPECT_EQ(made.other->size(), 0u) << k;
+    }
+    clock.Advance(std::chrono::seconds(3));  // time-window buckets age between rounds
+  }
+}
+
 }  // namespace
 }  // namespace codedrift

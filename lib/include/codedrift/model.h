@@ -114,6 +114,9 @@ class Model {
   TokenSymbolizer* token_symbolizer_ = nullptr;  // symbolizer_, for tokens models
   std::unique_ptr<Window> window_;
   std::vector<SymbolId> scratch_ids_;
+  // Sample's cache of id -> key: Sample and ImportState take keys_mutex_ before mutex_, and
+  // ingest never takes it.
+  std::mutex keys_mutex_;
   std::vector<SymbolKey> keys_;
   std::vector<uint64_t> cumulative_;  // by id (not raw bytes)
   uint64_t byte_counts_[256] = {};    // raw bytes: those in counted_bytes_

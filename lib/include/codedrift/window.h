@@ -49,6 +49,10 @@ class Window {
   virtual void PushIds(std::span<const SymbolId> symbols) = 0;
   // Copies what is needed to count the window later without holding the model's lock.
   virtual std::unique_ptr<Window> Clone() const = 0;
+  // Clone into `copy`, a window made from the same spec, reusing its storage: a count window's
+  // copy then allocates nothing, so its pages can be touched before the model's lock is taken.
+  // False (and `copy` unchanged) when `copy` is not a window of this kind and size.
+  virtual bool CopyInto(Window& copy) const = 0;
   // Counts the window in `batch_count` batches (fewer when there is too little data).
   virtual WindowCounts Count(int batch_count, SymbolId id_limit) const = 0;
   // Symbols currently in the window.
