@@ -64,6 +64,14 @@ Result<CaptureStream> CaptureStream::Open(const std::vector<std::string>& paths)
   return stream;
 }
 
+Result<CaptureStream> CaptureStream::OpenToCount(const std::vector<std::string>& paths) {
+  auto stream = Open(paths);
+  if (stream.ok() && stream.value().size() == 0) {
+    return Error{"no symbols: the input is empty (0 bytes)"};
+  }
+  return stream;
+}
+
 CaptureStream::CaptureStream(CaptureStream&& other) noexcept
     : files_(std::move(other.files_)), fds_(std::move(other.fds_)), size_(other.size_) {
   other.fds_.clear();

@@ -32,6 +32,9 @@ class CaptureStream {
   // Checks every path: it exists, is a regular file (not a directory, pipe or device) and can
   // be opened for reading. Error: "PATH: reason".
   static Result<CaptureStream> Open(const std::vector<std::string>& paths);
+  // Open, for the commands that count symbols: files that together hold no bytes are refused
+  // too ("no symbols: the input is empty (0 bytes)").
+  static Result<CaptureStream> OpenToCount(const std::vector<std::string>& paths);
 
   CaptureStream(CaptureStream&& other) noexcept;
   CaptureStream& operator=(CaptureStream&& other) noexcept;

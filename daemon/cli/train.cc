@@ -30,13 +30,9 @@ int RunTrain(const TrainOptions& options) {
     PrintError(kCommand, source.error().message);
     return kExitUsage;
   }
-  auto stream = CaptureStream::Open(options.files);
+  auto stream = CaptureStream::OpenToCount(options.files);
   if (!stream.ok()) {
     PrintError(kCommand, stream.error().message);
-    return kExitInvalidInput;
-  }
-  if (stream.value().size() == 0) {
-    PrintError(kCommand, "no symbols: the input is empty (0 bytes)");
     return kExitInvalidInput;
   }
   StreamCounts counts;
