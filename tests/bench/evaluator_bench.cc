@@ -191,19 +191,23 @@ void BM_Model_Ingest(benchmark::State& state) {
 }
 BENCHMARK(BM_Model_Ingest)->Arg(0)->Arg(1)->Unit(benchmark::kMillisecond);
 
+// The lines cut into runs of whole lines of up to 64 KiB (what one received buffer holds),
+// each with its record count.
+std::vector<std::pair<std::string, uint64_t>> RunsOf(const std::vector<std::string>& lines) {
+  std::vector<std::pair<std::string, uint64_t>> out(1);
+  for (const auto& line : lines) {
+    if (out.back().first.size() + line.size() > 65536) out.emplace_back();
+    out.back().first += line;
+    ++out.back().second;
+  }
+  return out;
+}
+
 // The daemon's path for `lines` framing: the whole lines of each 64 KiB received buffer as one
 // run (Model::IngestRun), against one Ingest call per line above.
 void BM_Model_IngestRun(benchmark::State& state) {
   static const std::vector<std::string> lines = GaugeLines(8 << 20);
-  static const auto runs = [] {
-    std::vector<std::pair<std::string, uint64_t>> out(1);
-    for (const auto& line : lines) {
-      if (out.back().first.size() + line.size() > 65536) out.emplace_back();
-      out.back().first += line;
-      ++out.back().second;
-    }
-    return out;
-  }();
+  static const auto runs = RunsOf(lines);
   SteadyClock clock;
   Model model(state.range(0) == 0 ? BytesSpec() : TokensSpec(true), WindowSpec{.symbols = kWindow},
               clock);
@@ -224,15 +228,7 @@ BENCHMARK(BM_Model_IngestRun)->Arg(0)->Arg(1)->Unit(benchmark::kMillisecond);
 // adding 256 counts or the ids) bounds it.
 void BM_Model_IngestRunShared(benchmark::State& state) {
   static const std::vector<std::string> lines = GaugeLines(8 << 20);
-  static const auto runs = [] {
-    std::vector<std::pair<std::string, uint64_t>> out(1);
-    for (const auto& line : lines) {
-      if (out.back().first.size() + line.size() > 65536) out.emplace_back();
-      out.back().first += line;
-      ++out.back().second;
-    }
-    return out;
-  }();
+  static const auto runs = RunsOf(lines);
   static SteadyClock clock;
   static Model bytes_model(BytesSpec(), WindowSpec{.symbols = kWindow}, clock);
   static Model tokens_model(TokensSpec(true), WindowSpec{.symbols = kWindow}, clock);
