@@ -1,5 +1,7 @@
 #include "codedrift/byte_selection.h"
 
+#include <algorithm>
+
 #include "codedrift/byte_histogram.h"
 
 #if defined(__x86_64__)
@@ -9,11 +11,22 @@
 namespace codedrift {
 namespace {
 
-void CountSelectedScalar(const unsigned char* p, size_t n, const std::bitset<256>& bytes,
-                         uint64_t (&histogram)[256]) {
+// Data whose first kProbeBytes hold more than one selected byte in kDenseFraction is counted
+// whole (see CountWith).
+constexpr size_t kProbeBytes = 4096;
+constexpr uint64_t kDenseFraction = 8;
+
+// The sparse counters return how many selected bytes they found.
+uint64_t CountSelectedScalar(const unsigned char* p, size_t n, const std::bitset<256>& bytes,
+                             uint64_t (&histogram)[256]) {
+  uint64_t found = 0;
   for (size_t i = 0; i < n; ++i) {
-    if (bytes[p[i]]) ++histogram[p[i]];
+    if (bytes[p[i]]) {
+      ++histogram[p[i]];
+      ++found;
+    }
   }
+  return found;
 }
 
 #if defined(__x86_64__)
@@ -33,10 +46,10 @@ __attribute__((target("avx2"))) uint32_t Selected32(__m256i x, __m256i rows_low,
   return static_cast<uint32_t>(_mm256_movemask_epi8(hit));
 }
 
-__attribute__((target("avx2"))) void CountSelectedAvx2(const unsigned char* p, size_t n,
-                                                       const uint8_t (&rows)[2][16],
-                                                       const std::bitset<256>& bytes,
-                                                       uint64_t (&histogram)[256]) {
+__attribute__((target("avx2"))) uint64_t CountSelectedAvx2(const unsigned char* p, size_t n,
+                                                           const uint8_t (&rows)[2][16],
+                                                           const std::bitset<256>& bytes,
+                                                           uint64_t (&histogram)[256]) {
   const __m256i rows_low =
       _mm256_broadcastsi128_si256(_mm_load_si128(reinterpret_cast<const __m128i*>(rows[0])));
   const __m256i rows_high =
@@ -44,6 +57,7 @@ __attribute__((target("avx2"))) void CountSelectedAvx2(const unsigned char* p, s
   const __m256i bit_of_high =
       _mm256_setr_epi8(1, 2, 4, 8, 16, 32, 64, -128, 1, 2, 4, 8, 16, 32, 64, -128,  //
                        1, 2, 4, 8, 16, 32, 64, -128, 1, 2, 4, 8, 16, 32, 64, -128);
+  uint64_t found = 0;
   size_t i = 0;
   for (; i + 64 <= n; i += 64) {
     const auto* v = reinterpret_cast<const __m256i*>(p + i);
@@ -53,9 +67,10 @@ __attribute__((target("avx2"))) void CountSelectedAvx2(const unsigned char* p, s
     while (hits != 0) {
       ++histogram[p[i + static_cast<size_t>(__builtin_ctzll(hits))]];
       hits &= hits - 1;
+      ++found;
     }
   }
-  CountSelectedScalar(p + i, n - i, bytes, histogram);
+  return found + CountSelectedScalar(p + i, n - i, bytes, histogram);
 }
 
 bool HasAvx2() {
@@ -75,24 +90,49 @@ ByteSelection::ByteSelection(const std::bitset<256>& bytes) : bytes_(bytes) {
 }
 
 void ByteSelection::Count(std::string_view data, uint64_t (&histogram)[256]) const {
+#if defined(__x86_64__)
+  CountWith(data, histogram, HasAvx2());
+#else
+  CountWith(data, histogram, false);
+#endif
+}
+
+void ByteSelection::CountPortable(std::string_view data, uint64_t (&histogram)[256]) const {
+  CountWith(data, histogram, false);
+}
+
+uint64_t ByteSelection::CountSparse(std::string_view data, uint64_t (&histogram)[256],
+                                    [[maybe_unused]] bool vector) const {
+  const auto* p = reinterpret_cast<const unsigned char*>(data.data());
+#if defined(__x86_64__)
+  if (vector) return CountSelectedAvx2(p, data.size(), rows_, bytes_, histogram);
+#endif
+  return CountSelectedScalar(p, data.size(), bytes_, histogram);
+}
+
+// Selected bytes are found one by one, which pays while they are rare (the bytes a deployed
+// table lacks). When most bytes are selected (a table made for other traffic, a sender of
+// random bytes), counting every byte and keeping the selected counts is faster: a probe of the
+// first kProbeBytes decides which way the rest goes.
+void ByteSelection::CountWith(std::string_view data, uint64_t (&histogram)[256],
+                              bool vector) const {
   if (none() || data.empty()) return;
   if (all()) {
     CountBytes(data, histogram);
     return;
   }
-  const auto* p = reinterpret_cast<const unsigned char*>(data.data());
-#if defined(__x86_64__)
-  if (HasAvx2()) {
-    CountSelectedAvx2(p, data.size(), rows_, bytes_, histogram);
+  const size_t probe = std::min(data.size(), kProbeBytes);
+  const uint64_t found = CountSparse(data.substr(0, probe), histogram, vector);
+  const std::string_view rest = data.substr(probe);
+  if (found * kDenseFraction <= probe) {
+    CountSparse(rest, histogram, vector);
     return;
   }
-#endif
-  CountPortable(data, histogram);
-}
-
-void ByteSelection::CountPortable(std::string_view data, uint64_t (&histogram)[256]) const {
-  CountSelectedScalar(reinterpret_cast<const unsigned char*>(data.data()), data.size(), bytes_,
-                      histogram);
+  uint64_t every[256] = {};
+  CountBytes(rest, every);
+  for (size_t byte = 0; byte < 256; ++byte) {
+    if (bytes_[byte]) histogram[byte] += every[byte];
+  }
 }
 
 }  // namespace codedrift

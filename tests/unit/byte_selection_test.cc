@@ -62,8 +62,12 @@ TEST(ByteSelection, BothPathsCountExactlyTheSelectedBytes) {
   std::mt19937_64 rng(20261202);
   const auto selections = Selections(rng);
   for (size_t n : {size_t{0}, size_t{1}, size_t{31}, size_t{63}, size_t{64}, size_t{65},
-                   size_t{1000}, size_t{65536 + 17}}) {
-    for (const std::string& data : {RandomBytes(n, rng), MostlyText(n, rng)}) {
+                   size_t{1000}, size_t{4096}, size_t{9000}, size_t{65536 + 17}}) {
+    // Text then random bytes and the reverse: the first 4 KiB decide whether the rest is
+    // counted selected byte by selected byte or whole, and either way must stay exact.
+    for (const std::string& data :
+         {RandomBytes(n, rng), MostlyText(n, rng), MostlyText(n / 2, rng) + RandomBytes(n / 2, rng),
+          RandomBytes(n / 2, rng) + MostlyText(n / 2, rng)}) {
       for (size_t s = 0; s < selections.size(); ++s) {
         const ByteSelection selection(selections[s]);
         const auto expected = NaiveCount(data, selections[s]);

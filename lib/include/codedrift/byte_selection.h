@@ -22,13 +22,16 @@ class ByteSelection {
   bool operator==(const ByteSelection& other) const { return bytes_ == other.bytes_; }
 
   // Adds the count of every byte of `data` that is in the selection to `histogram` (which is
-  // not cleared first); other entries are left alone. Each selected byte found costs a few
-  // instructions, so a selection that matches most of the data runs near CountBytes' speed.
+  // not cleared first); other entries are left alone. Data that is mostly selected bytes is
+  // counted whole instead (CountBytes' speed), so no input makes it much slower than that.
   void Count(std::string_view data, uint64_t (&histogram)[256]) const;
   // The same with no vector instructions (the path of CPUs without AVX2; tests compare both).
   void CountPortable(std::string_view data, uint64_t (&histogram)[256]) const;
 
  private:
+  void CountWith(std::string_view data, uint64_t (&histogram)[256], bool vector) const;
+  uint64_t CountSparse(std::string_view data, uint64_t (&histogram)[256], bool vector) const;
+
   std::bitset<256> bytes_;
   // The scan's lookup rows: for each low nibble l, bit h of rows_[0][l] is set when byte
   // h * 16 + l is selected (h < 8), and of rows_[1][l] when byte (h + 8) * 16 + l is.
