@@ -74,11 +74,8 @@ std::string DaemonConfigText(const std::vector<BenchStream>& streams,
 Result<std::string> TrainedBytesTable(std::string_view sample) {
   uint64_t histogram[256] = {};
   CountBytes(sample, histogram);
-  SymbolCounts counts(Alphabet::Bytes(1));
-  for (int byte = 0; byte < 256; ++byte) {
-    if (histogram[byte] > 0) counts.Add(SymbolKey(1, static_cast<char>(byte)), histogram[byte]);
-  }
-  auto table = TrainPrefixTable(counts, /*max_length=*/15, /*literal_bits=*/8);
+  auto table = TrainPrefixTable(BytesFromHistogram(histogram), /*max_length=*/15,
+                                /*literal_bits=*/8);
   if (!table.ok()) return table.error();
   return FormatCodeTable(table.value());
 }
