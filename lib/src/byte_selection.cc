@@ -4,6 +4,8 @@
 
 #include "codedrift/byte_histogram.h"
 
+#include "cpu_features.h"
+
 #if defined(__x86_64__)
 #include <immintrin.h>
 #endif
@@ -72,11 +74,6 @@ __attribute__((target("avx2"))) uint64_t CountSelectedAvx2(const unsigned char* 
   }
   return found + CountSelectedScalar(p + i, n - i, bytes, histogram);
 }
-
-bool HasAvx2() {
-  static const bool has = __builtin_cpu_supports("avx2");
-  return has;
-}
 #endif
 
 }  // namespace
@@ -90,11 +87,7 @@ ByteSelection::ByteSelection(const std::bitset<256>& bytes) : bytes_(bytes) {
 }
 
 void ByteSelection::Count(std::string_view data, uint64_t (&histogram)[256]) const {
-#if defined(__x86_64__)
-  CountWith(data, histogram, HasAvx2());
-#else
-  CountWith(data, histogram, false);
-#endif
+  CountWith(data, histogram, CpuHasAvx2());
 }
 
 void ByteSelection::CountPortable(std::string_view data, uint64_t (&histogram)[256]) const {

@@ -10,6 +10,8 @@
 
 #include "codedrift/framer.h"
 
+#include "cpu_features.h"
+
 namespace codedrift {
 namespace {
 
@@ -56,15 +58,15 @@ __attribute__((always_inline)) inline bool TakeBlock(uint64_t newlines, size_t b
   return true;
 }
 
-// Whole 64-byte blocks from `base` for as long as TakeBlock takes them; returns where it
-// stopped (a multiple of 64 from `base`). Two versions: AVX2 with POPCNT where the CPU has
+// Whole 64-byte blocks from the start for as long as TakeBlock takes them; returns where it
+// stopped (a multiple of 64). Two versions: AVX2 with POPCNT where the CPU has
 // them (the library is built for baseline x86-64), and SSE2 with the portable popcount.
 #if defined(__x86_64__)
 __attribute__((target("avx2,popcnt,bmi"))) size_t TakeBlocksAvx2(const char* data, size_t size,
-                                                                 size_t base, size_t max,
-                                                                 size_t& line_start,
+                                                                 size_t max, size_t& line_start,
                                                                  uint64_t& records) {
   const __m256i newline = _mm256_set1_epi8('\n');
+  size_t base = 0;
   for (; base + 64 <= size; base += 64) {
     const auto* p = reinterpret_cast<const __m256i*>(data + base);
     const auto low = static_cast<uint32_t>(
@@ -75,19 +77,14 @@ __attribute__((target("avx2,popcnt,bmi"))) size_t TakeBlocksAvx2(const char* dat
   }
   return base;
 }
-
-bool HasAvx2() {
-  static const bool has = __builtin_cpu_supports("avx2") && __builtin_cpu_supports("popcnt") &&
-                          __builtin_cpu_supports("bmi");
-  return has;
-}
 #endif
 
-size_t TakeBlocks(const char* data, size_t size, size_t base, size_t max, size_t& line_start,
+size_t TakeBlocks(const char* data, size_t size, size_t max, size_t& line_start,
                   uint64_t& records) {
 #if defined(__x86_64__)
-  if (HasAvx2()) return TakeBlocksAvx2(data, size, base, max, line_start, records);
+  if (CpuHasAvx2()) return TakeBlocksAvx2(data, size, max, line_start, records);
 #endif
+  size_t base = 0;
   for (; base + 64 <= size; base += 64) {
     if (!TakeBlock(NewlineMask(data + base, 64), base, max, line_start, records)) break;
   }
@@ -167,7 +164,7 @@ size_t LineFramer::TakeWholeLines(std::string_view chunk, uint64_t& records) {
   size_t line_start = 0;  // the end of the last whole line taken
   size_t base = 0;
   if (max_record_bytes_ >= 64)
-    base = TakeBlocks(data, size, 0, max_record_bytes_, line_start, records);
+    base = TakeBlocks(data, size, max_record_bytes_, line_start, records);
   // The tail, a block with an overlong line, and every block under a limit below 64 bytes:
   // newline by newline.
   for (; base < size; base += 64) {

@@ -18,8 +18,6 @@ class ByteSelection {
 
   bool none() const { return bytes_.none(); }
   bool all() const { return bytes_.all(); }
-  bool contains(unsigned char byte) const { return bytes_[byte]; }
-  bool operator==(const ByteSelection& other) const { return bytes_ == other.bytes_; }
 
   // Adds the count of every byte of `data` that is in the selection to `histogram` (which is
   // not cleared first); other entries are left alone. Data that is mostly selected bytes is
