@@ -120,16 +120,22 @@ void Model::Ingest(std::string_view record) {
 
 void Model::IngestRun(std::string_view run, uint64_t records) {
   if (raw_bytes_) {
+    // Long runs are counted before mutex_ is taken, with the selection read under its own
+    // lock; short ones (most single records) under mutex_, which guards the selection too.
     uint64_t counts[256] = {};
-    const CountedBytes counted = counted_bytes();
-    const bool outside = run.size() >= kCountOutsideLockBytes && !counted->none();
-    if (outside) counted->Count(run, counts);
+    const bool long_run = run.size() >= kCountOutsideLockBytes;
+    bool counted_outside = false;
+    if (long_run) {
+      const CountedBytes counted = counted_bytes();
+      counted_outside = !counted->none();
+      if (counted_outside) counted->Count(run, counts);
+    }
     std::lock_guard lock(mutex_);
     records_total_ += records;
-    if (outside) {
+    if (counted_outside) {
       for (size_t b = 0; b < 256; ++b) byte_counts_[b] += counts[b];
-    } else {
-      counted->Count(run, byte_counts_);
+    } else if (!long_run) {
+      counted_bytes_->Count(run, byte_counts_);
     }
     window_->PushBytes({reinterpret_cast<const uint8_t*>(run.data()), run.size()});
     symbols_total_ += run.size();
@@ -162,8 +168,9 @@ void Model::IngestRun(std::string_view run, uint64_t records) {
 
 void Model::CountOnlyBytes(const ByteSelection& bytes) {
   auto counted = std::make_shared<const ByteSelection>(bytes);
-  std::lock_guard lock(counted_bytes_mutex_);
-  counted_bytes_.swap(counted);  // the old one is freed after the lock, by the last holder
+  std::lock_guard lock(mutex_);
+  std::lock_guard selection_lock(counted_bytes_mutex_);
+  counted_bytes_.swap(counted);  // the old one is freed after the locks, by the last holder
 }
 
 CountedBytes Model::counted_bytes() const {

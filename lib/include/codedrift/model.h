@@ -120,8 +120,8 @@ class Model {
   std::vector<SymbolKey> keys_;
   std::vector<uint64_t> cumulative_;  // by id (not raw bytes)
   uint64_t byte_counts_[256] = {};    // raw bytes: those in counted_bytes_
-  // Read by ingest before it takes mutex_, under a lock of its own held only to copy the
-  // pointer (the selection changes only at reloads).
+  // Changed under mutex_ and counted_bytes_mutex_ both (only at reloads), so ingest reads it
+  // under mutex_ or, before taking mutex_, under the small lock held only to copy the pointer.
   CountedBytes counted_bytes() const;
   mutable BriefLockMutex counted_bytes_mutex_;
   CountedBytes counted_bytes_ = std::make_shared<const ByteSelection>();
