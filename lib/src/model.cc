@@ -2,6 +2,7 @@
 
 #include <algorithm>
 
+#include "line_memo_pool.h"
 #include "token_symbolizer.h"
 
 namespace codedrift {
@@ -69,7 +70,10 @@ Model::Model(SymbolizerSpec symbolizer, WindowSpec window, const Clock& clock)
       tokens_(symbolizer_spec_.kind == AlphabetKind::kTokens),
       symbolizer_(MakeSymbolizer(symbolizer_spec_)),
       token_symbolizer_(tokens_ ? dynamic_cast<TokenSymbolizer*>(symbolizer_.get()) : nullptr),
+      line_memos_(tokens_ ? std::make_unique<LineMemoPool>() : nullptr),
       window_(MakeWindow(window_spec_, raw_bytes_, clock)) {}
+
+Model::~Model() = default;
 
 SymbolId Model::SymbolizeTokens(std::span<const std::string_view> records,
                                 std::vector<SymbolId>& ids) {
@@ -90,7 +94,8 @@ SymbolId Model::SymbolizeTokenLines(std::string_view run, std::vector<SymbolId>&
   size_t done = 0;
   {
     std::shared_lock lock(symbolizer_mutex_);
-    done = token_symbolizer_->AppendKnownLines(run, ids);
+    const LineMemoPool::Lease memo = line_memos_->Take();
+    done = token_symbolizer_->AppendKnownLines(run, ids, memo.memo());
     if (done == run.size()) return token_symbolizer_->IdLimit();
   }
   std::unique_lock lock(symbolizer_mutex_);

@@ -2,6 +2,8 @@
 // every record with the end-of-record symbol.
 #include "token_symbolizer.h"
 
+#include <atomic>
+#include <cstring>
 #include <memory>
 
 namespace codedrift {
@@ -22,6 +24,16 @@ std::string_view WithoutTerminator(std::string_view record) {
 
 SymbolId Found(uint32_t id) { return id == TokenTable::kNotFound ? kOverflowId : id; }
 
+// Table contents get a number no other table had, so a line memo can tell them apart.
+uint64_t NewGeneration() {
+  static std::atomic<uint64_t> last{0};
+  return last.fetch_add(1, std::memory_order_relaxed) + 1;
+}
+
+bool HasDigit(std::string_view text) {
+  return text.find_first_of("0123456789") != std::string_view::npos;
+}
+
 }  // namespace
 
 TokenSymbolizer::TokenSymbolizer(const TokenOptions& options)
@@ -30,7 +42,9 @@ TokenSymbolizer::TokenSymbolizer(const TokenOptions& options)
       // Tokens never contain a newline (alphabet.h reserves "\n" for end of record), so a
       // newline inside a record always separates tokens.
       delimiters_(options.delimiters + '\n'),
-      table_(kFirstTokenId) {}
+      memo_fits_(!options.mask_digits || !HasDigit(options.delimiters)),
+      table_(kFirstTokenId),
+      generation_(NewGeneration()) {}
 
 size_t TokenSymbolizer::Append(std::string_view record, std::vector<SymbolId>& out) {
   record = WithoutTerminator(record);
@@ -79,8 +93,8 @@ bool TokenSymbolizer::AppendKnown(std::string_view record, std::vector<SymbolId>
 // (usually one) are checked for newlines, each of which ends a record. A token right before a
 // newline loses one trailing '\r', as Append strips a line's "\r\n".
 template <class Lookup>
-size_t TokenSymbolizer::ScanLines(std::string_view run, std::vector<SymbolId>& out,
-                                  Lookup&& lookup) const {
+size_t TokenSymbolizer::ScanLines(const char* readable_begin, std::string_view run,
+                                  std::vector<SymbolId>& out, Lookup&& lookup) const {
   const char* const begin = run.data();
   const char* const end = begin + run.size();
   const char* gap = begin;       // the delimiters since the last token start here
@@ -101,7 +115,7 @@ size_t TokenSymbolizer::ScanLines(std::string_view run, std::vector<SymbolId>& o
         end_lines(gap, token);
         gap = token + length;
         if (token[length - 1] == '\r' && gap != end && *gap == '\n' && --length == 0) return true;
-        const uint32_t id = lookup(begin, token, length);
+        const uint32_t id = lookup(readable_begin, token, length);
         if (id == TokenTable::kMissing) {
           out.resize(line_ids);
           stopped = line;
@@ -119,32 +133,66 @@ size_t TokenSymbolizer::ScanLines(std::string_view run, std::vector<SymbolId>& o
 void TokenSymbolizer::AppendLines(std::string_view run, std::vector<SymbolId>& out) {
   if (mask_digits_) {
     ScanLines(
-        run, out,
+        run.data(), run, out,
         [this](const char* begin, const char* token, size_t length) __attribute__((always_inline)) {
           return table_.Intern<true>(begin, token, length, max_distinct_);
         });
   } else {
     ScanLines(
-        run, out,
+        run.data(), run, out,
         [this](const char* begin, const char* token, size_t length) __attribute__((always_inline)) {
           return table_.Intern<false>(begin, token, length, max_distinct_);
         });
   }
 }
 
-size_t TokenSymbolizer::AppendKnownLines(std::string_view run, std::vector<SymbolId>& out) const {
-  if (mask_digits_) {
-    return ScanLines(
-        run, out,
-        [this](const char* begin, const char* token, size_t length) __attribute__((always_inline)) {
-          return table_.Find<true>(begin, token, length, max_distinct_);
-        });
-  }
+template <bool kMaskDigits>
+size_t TokenSymbolizer::KnownLines(const char* readable_begin, std::string_view run,
+                                   std::vector<SymbolId>& out) const {
   return ScanLines(
-      run, out,
+      readable_begin, run, out,
       [this](const char* begin, const char* token, size_t length) __attribute__((always_inline)) {
-        return table_.Find<false>(begin, token, length, max_distinct_);
+        return table_.Find<kMaskDigits>(begin, token, length, max_distinct_);
       });
+}
+
+// Line by line: a line the memo knows is copied from it; the others are scanned, and
+// remembered when every token was known.
+template <bool kMaskDigits>
+size_t TokenSymbolizer::MemoLines(std::string_view run, std::vector<SymbolId>& out,
+                                  LineMemo& memo) const {
+  const char* const begin = run.data();
+  const char* const end = begin + run.size();
+  const char* line = begin;
+  LineScan scan;
+  while (line != end && scan.Read<kMaskDigits>(line, end)) {
+    const std::string_view with_newline(line, scan.length + 1);
+    std::span<const SymbolId> ids;
+    if (scan.fits && memo.Find(scan, ids)) {
+      out.insert(out.end(), ids.begin(), ids.end());
+      out.push_back(kEndOfRecordId);
+    } else {
+      const size_t before = out.size();
+      if (KnownLines<kMaskDigits>(begin, with_newline, out) != with_newline.size()) {
+        return static_cast<size_t>(line - begin);  // it holds a token to store
+      }
+      if (scan.fits) memo.Remember(scan, std::span(out).subspan(before, out.size() - before - 1));
+    }
+    line += with_newline.size();
+  }
+  if (line == end) return run.size();
+  // A last line without its newline.
+  return static_cast<size_t>(line - begin) +
+         KnownLines<kMaskDigits>(begin, std::string_view(line, end - line), out);
+}
+
+size_t TokenSymbolizer::AppendKnownLines(std::string_view run, std::vector<SymbolId>& out,
+                                         LineMemo* memo) const {
+  if (memo != nullptr && memo_fits_ && memo->Use(generation_, run.size())) {
+    return mask_digits_ ? MemoLines<true>(run, out, *memo) : MemoLines<false>(run, out, *memo);
+  }
+  return mask_digits_ ? KnownLines<true>(run.data(), run, out)
+                      : KnownLines<false>(run.data(), run, out);
 }
 
 SymbolId TokenSymbolizer::IdLimit() const { return kFirstTokenId + table_.size(); }
@@ -177,6 +225,7 @@ Status TokenSymbolizer::ImportState(const SymbolizerState& state) {
     }
   }
   table_ = std::move(table);
+  generation_ = NewGeneration();
   return Ok{};
 }
 

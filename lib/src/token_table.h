@@ -15,6 +15,8 @@
 #include <emmintrin.h>
 #endif
 
+#include "digit_mask.h"
+
 namespace codedrift {
 
 // Owns its slots, entries and arena; not thread-safe. Ids start at `first_id`, so a caller can
@@ -69,7 +71,6 @@ class TokenTable {
  private:
   static constexpr uint32_t kEmpty = UINT32_MAX;
   static constexpr size_t kInitialCapacity = 1024;
-  static constexpr uint64_t kOnes = 0x0101010101010101ull;
   // Filter bits per stored token: two bits set per token in one 64-bit word gives about 2%
   // false positives at 16 bits per token, in 128 KiB for 65536 tokens (cache-resident).
   static constexpr size_t kFilterBitsPerToken = 16;
@@ -93,34 +94,23 @@ class TokenTable {
     size_t length;
   };
 
-  // Each byte 0x30..0x39 ('0'..'9') becomes 0x30; other bytes are unchanged. Exact per byte:
-  // no step carries into the neighbouring byte.
-  static uint64_t MaskDigits(uint64_t x) {
-    const uint64_t high = (x & (0xF0 * kOnes)) ^ (0x30 * kOnes);  // 0 where high nibble is 3
-    const uint64_t high_nonzero =
-        (((high & (0x7F * kOnes)) + 0x7F * kOnes) | high) & (0x80 * kOnes);
-    const uint64_t low_over_9 = ((x & (0x0F * kOnes)) + 0x76 * kOnes) & (0x80 * kOnes);
-    const uint64_t digit = ~(high_nonzero | low_over_9) & (0x80 * kOnes);
-    return x & ~((digit >> 7) * 0x0F);  // clear the low nibble of digit bytes
-  }
-
   template <bool kMaskDigits>
   static uint64_t Load64(const char* p) {
 #if defined(__SSE2__)
     if (kMaskDigits) {  // the vector masking, a few instructions fewer than the word one
       const __m128i v = _mm_loadl_epi64(reinterpret_cast<const __m128i*>(p));
-      return static_cast<uint64_t>(_mm_cvtsi128_si64(MaskDigits(v)));
+      return static_cast<uint64_t>(_mm_cvtsi128_si64(digit_mask::Mask(v)));
     }
 #endif
     uint64_t v;
     std::memcpy(&v, p, 8);
-    return kMaskDigits ? MaskDigits(v) : v;
+    return kMaskDigits ? digit_mask::Mask(v) : v;
   }
   template <bool kMaskDigits>
   static uint64_t Load32(const char* p) {
     uint32_t v;
     std::memcpy(&v, p, 4);
-    return kMaskDigits ? MaskDigits(v) : v;
+    return kMaskDigits ? digit_mask::Mask(v) : v;
   }
   // Short tokens as two words: the token's bytes right-aligned in 16 bytes (byte i at position
   // 16 - length + i, little-endian, a holding positions 0..7), zeros before them. Together
@@ -140,7 +130,7 @@ class TokenTable {
           0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff};
       __m128i v = _mm_loadu_si128(reinterpret_cast<const __m128i*>(p + length - 16));
       v = _mm_and_si128(v, _mm_loadu_si128(reinterpret_cast<const __m128i*>(kKeep + length)));
-      if (kMaskDigits) v = MaskDigits(v);
+      if (kMaskDigits) v = digit_mask::Mask(v);
       return {static_cast<uint64_t>(_mm_cvtsi128_si64(v)),
               static_cast<uint64_t>(_mm_cvtsi128_si64(_mm_unpackhi_epi64(v, v)))};
     }
@@ -163,23 +153,14 @@ class TokenTable {
     return kMaskDigits ? MaskDigits(w) : w;
   }
 
-#if defined(__SSE2__)
-  // x + 0x50 maps '0'..'9' (and only them) onto -128..-119 as signed bytes; their low nibble
-  // is cleared. Zero bytes are no digits, so padding stays zero.
-  static __m128i MaskDigits(__m128i v) {
-    const __m128i digit = _mm_cmplt_epi8(_mm_add_epi8(v, _mm_set1_epi8(0x50)), _mm_set1_epi8(-118));
-    return _mm_andnot_si128(_mm_and_si128(digit, _mm_set1_epi8(0x0F)), v);
-  }
-#endif
-
   static Words MaskDigits(Words w) {
 #if defined(__SSE2__)
     const __m128i v =
-        MaskDigits(_mm_set_epi64x(static_cast<long long>(w.b), static_cast<long long>(w.a)));
+        digit_mask::Mask(_mm_set_epi64x(static_cast<long long>(w.b), static_cast<long long>(w.a)));
     return {static_cast<uint64_t>(_mm_cvtsi128_si64(v)),
             static_cast<uint64_t>(_mm_cvtsi128_si64(_mm_unpackhi_epi64(v, v)))};
 #else
-    return {MaskDigits(w.a), MaskDigits(w.b)};
+    return {digit_mask::Mask(w.a), digit_mask::Mask(w.b)};
 #endif
   }
 

@@ -56,12 +56,14 @@ struct ModelState {
 };
 
 class TokenSymbolizer;
+class LineMemoPool;
 using CountedBytes = std::shared_ptr<const ByteSelection>;
 
 // Thread-safe: Ingest may be called from any thread; Sample from another.
 class Model {
  public:
   Model(SymbolizerSpec symbolizer, WindowSpec window, const Clock& clock);
+  ~Model();
 
   // Hot path: symbolize, count, push into the window. One lock per record. Single bytes
   // (long records) and tokens are counted or symbolized before the lock is taken, so several
@@ -112,6 +114,7 @@ class Model {
   std::shared_mutex symbolizer_mutex_;
   std::unique_ptr<Symbolizer> symbolizer_;
   TokenSymbolizer* token_symbolizer_ = nullptr;  // symbolizer_, for tokens models
+  std::unique_ptr<LineMemoPool> line_memos_;     // tokens models: for runs of lines
   std::unique_ptr<Window> window_;
   std::vector<SymbolId> scratch_ids_;
   // Sample's cache of id -> key: Sample and ImportState take keys_mutex_ before mutex_, and
