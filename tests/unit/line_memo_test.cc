@@ -106,12 +106,19 @@ std::string ShuffledLine(std::mt19937_64& rng) {
   return line + "\n";
 }
 
-TEST(LineMemoJudgement, TurnsOffWhileLinesDoNotRepeatAndTriesAgainLater) {
+// A symbolizer that has stored every word ShuffledLine uses.
+TokenSymbolizer VocabularyKnown() {
   TokenSymbolizer symbolizer(TokenOptions{.delimiters = " ", .mask_digits = false});
-  std::vector<SymbolId> ids;
   std::string vocabulary;
   for (int w = 0; w < 40; ++w) vocabulary += "w" + std::to_string(w) + "\n";
+  std::vector<SymbolId> ids;
   symbolizer.AppendLines(vocabulary, ids);
+  return symbolizer;
+}
+
+TEST(LineMemoJudgement, TurnsOffWhileLinesDoNotRepeatAndTriesAgainLater) {
+  TokenSymbolizer symbolizer = VocabularyKnown();
+  std::vector<SymbolId> ids;
 
   LineMemo memo;
   std::mt19937_64 rng(5);
@@ -149,11 +156,8 @@ TEST(LineMemoJudgement, TurnsOffWhileLinesDoNotRepeatAndTriesAgainLater) {
 }
 
 TEST(LineMemoBounds, StartsOverWhenFullAndStaysExact) {
-  TokenSymbolizer symbolizer(TokenOptions{.delimiters = " ", .mask_digits = false});
+  TokenSymbolizer symbolizer = VocabularyKnown();
   std::vector<SymbolId> ids;
-  std::string vocabulary;
-  for (int w = 0; w < 40; ++w) vocabulary += "w" + std::to_string(w) + "\n";
-  symbolizer.AppendLines(vocabulary, ids);
   LineMemo memo;
   std::mt19937_64 rng(9);
   // Each distinct line twice in a row: half the lookups hit, so the memo stays on, and more
