@@ -19,7 +19,7 @@ bool LineMemo::Use(uint64_t generation, size_t run_bytes) {
 void LineMemo::Remember(const LineScan& line, std::span<const SymbolId> ids) {
   const size_t text_bytes = line.chunks() * LineScan::kChunk;
   if (entries_.size() == kMaxEntries || text_.size() + text_bytes > kMaxTextBytes ||
-      ids_.size() + ids.size() > kMaxIds) {
+      ids_.size() + ids.size() + kIdPadding > kMaxIds) {
     Clear();
   }
   size_t slot = line.hash & (kSlots - 1);
@@ -30,6 +30,7 @@ void LineMemo::Remember(const LineScan& line, std::span<const SymbolId> ids) {
                            static_cast<uint16_t>(ids.size())});
   text_.insert(text_.end(), line.text, line.text + text_bytes);
   ids_.insert(ids_.end(), ids.begin(), ids.end());
+  ids_.insert(ids_.end(), kIdPadding, 0);
 }
 
 void LineMemo::Clear() {

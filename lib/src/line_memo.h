@@ -59,6 +59,8 @@ class LineMemo {
   static constexpr uint32_t kJudgedLookups = 4096;
   static constexpr uint32_t kMinHitsPer = 4;
   static constexpr uint64_t kOffBytes = uint64_t{16} << 20;
+  // Ids readable past each line's ids, so that they can be copied 4 at a time.
+  static constexpr size_t kIdPadding = 3;
 
   struct Stats {
     uint64_t lookups = 0;
@@ -169,7 +171,7 @@ inline uint64_t Finish(uint64_t h, size_t length) {
 
 #if defined(__SSE2__)
 template <bool kMaskDigits>
-bool LineScan::Read(const char* line, const char* end) {
+__attribute__((always_inline)) inline bool LineScan::Read(const char* line, const char* end) {
   // keep + 16 - n: the first n lanes all ones, the rest zero.
   alignas(16) static constexpr unsigned char kKeep[32] = {
       0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff,
@@ -227,7 +229,7 @@ bool LineScan::Read(const char* line, const char* end) {
 }
 #else
 template <bool kMaskDigits>
-bool LineScan::Read(const char* line, const char* end) {
+__attribute__((always_inline)) inline bool LineScan::Read(const char* line, const char* end) {
   const void* found = std::memchr(line, '\n', static_cast<size_t>(end - line));
   if (found == nullptr) return false;
   length = static_cast<size_t>(static_cast<const char*>(found) - line);
