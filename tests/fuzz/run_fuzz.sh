@@ -11,7 +11,7 @@ shift 2
 here=$(cd "$(dirname "$0")" && pwd)
 targets=("$@")
 [ ${#targets[@]} -gt 0 ] || targets=(daemon_config code_table line_framer length_prefix_framer
-                                     field_symbolizer http_route)
+                                     field_symbolizer http_route token_lines)
 failed=()
 for t in "${targets[@]}"; do
   corpus="$build/fuzz-corpus/$t"
