@@ -13,6 +13,9 @@ namespace codedrift::digit_mask {
 
 inline constexpr uint64_t kOnes = 0x0101010101010101ull;
 
+// One byte: a digit reads as '0'. For copies of text that is stored masked.
+inline char MaskChar(char c) { return c >= '0' && c <= '9' ? '0' : c; }
+
 // Each byte 0x30..0x39 ('0'..'9') becomes 0x30; other bytes are unchanged. Exact per byte:
 // no step carries into the neighbouring byte.
 inline uint64_t Mask(uint64_t x) {

@@ -238,7 +238,7 @@ __attribute__((always_inline)) inline bool LineScan::Read(const char* line, cons
   std::memset(text, 0, chunks() * kChunk);
   for (size_t i = 0; i < length; ++i) {
     const char c = line[i];
-    text[i] = static_cast<unsigned char>(kMaskDigits && c >= '0' && c <= '9' ? '0' : c);
+    text[i] = static_cast<unsigned char>(kMaskDigits ? digit_mask::MaskChar(c) : c);
   }
   uint64_t h = 0;
   for (size_t i = 0; i < chunks() * kChunk; i += 8) {

@@ -280,7 +280,7 @@ class TokenTable {
     offsets_.push_back(arena_.size());
     for (size_t i = 0; i < length; ++i) {
       const char c = token[i];
-      arena_ += kMaskDigits && c >= '0' && c <= '9' ? '0' : c;
+      arena_ += kMaskDigits ? digit_mask::MaskChar(c) : c;
     }
     if (2 * entries_.size() > slots_.size()) Rehash(2 * slots_.size());
     if (size() >= limit) BuildFilter();
